@@ -1,0 +1,13 @@
+"""The cautions every output carries where a number could be mistaken for a safety figure."""
+
+CAUTION = (
+    "Caution: these are model estimates, for triage and planning. A barrier, rate or half-life "
+    "from barrierscope is not a process-safety figure: low barriers and exothermic steps can mean "
+    "runaway reactions. Thermal hazards are measured (calorimetry) and judged under local "
+    "regulations and licensed practice."
+)
+
+RATE_NEEDS_FREE_ENERGY = (
+    "no rate or half-life: the model's energies are {kind}, and only a Gibbs free-energy barrier "
+    "gives a rate (Eyring). Refit with free energies (--kind free-energy) to get rates."
+)

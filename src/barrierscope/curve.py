@@ -1,0 +1,176 @@
+"""The barrier-from-reaction-energy stage as a scikit-learn regressor.
+
+:class:`CurveRegressor` fits one relation (or picks one by leave-one-out, ``relation="auto"``)
+to reaction energies X (kcal/mol, shape (n,) or (n, 1)) and barriers y (kcal/mol), and
+predicts barriers with an uncertainty that adds three parts (METHOD §4): the propagated
+reaction-energy uncertainty (local slope α times its standard deviation), the curve
+parameters' covariance (through the Jacobian), and the curve's own residual scatter.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats
+from sklearn.base import BaseEstimator, RegressorMixin
+from sklearn.utils.validation import check_is_fitted
+
+from .comparison import compare_relations
+from .curvefit import (bootstrap_intervals, check_pairs, correlation_matrix, fit_relation,
+                       profile_intervals, wald_intervals)
+from .identifiability import assess_identifiability
+from .relations import DEFAULT_RELATION, get_relation
+
+INTERVAL_METHODS = ("profile", "wald", "bootstrap", "none")
+
+
+def energy_column(X) -> np.ndarray:
+    """Reaction energies from X of shape (n,) or (n, 1), as a float vector."""
+    a = np.asarray(X, dtype=float)
+    if a.ndim == 2 and a.shape[1] == 1:
+        a = a[:, 0]
+    if a.ndim != 1:
+        raise ValueError(f"expected reaction energies of shape (n,) or (n, 1), got {a.shape}")
+    return a
+
+
+class CurveRegressor(RegressorMixin, BaseEstimator):
+    """Barrier (kcal/mol) from reaction energy (kcal/mol) through one fitted relation.
+
+    Parameters
+    ----------
+    relation : str
+        ``"asymptotic"`` (default), ``"linear"``, ``"marcus"``, ``"agmon_levine"``,
+        ``"rehm_weller"``, ``"marcus_nowork"``, or ``"auto"`` (lowest exact leave-one-out
+        RMSE among the five compared relations).
+    loss : str
+        ``"linear"`` (least squares) or a robust loss of ``scipy.optimize.least_squares``.
+    f_scale : float, kcal/mol
+        Residual scale of the robust loss.
+    intervals : {"profile", "wald", "bootstrap", "none"}
+        How parameter intervals are computed at ``level``; "none" skips them (fast, for
+        use inside cross-validation loops).
+    n_bootstrap : int
+    level : float
+        Coverage of the parameter intervals (default 0.95).
+    random_state : int or None
+        Seed of the bootstrap.
+
+    Attributes
+    ----------
+    relation_ : Relation
+    params_ : ndarray (p,)
+    cov_ : ndarray (p, p)
+    sigma_ : float, kcal/mol — residual standard deviation
+    dof_ : int
+    ci_ : dict name → (low, high), or {} when intervals="none"
+    ci_open_ : dict name → (low_open, high_open) for profile intervals
+    correlation_ : ndarray (p, p)
+    energy_range_ : (float, float), kcal/mol
+    identifiability_ : Identifiability or None (asymptotic curve only)
+    comparison_ : Comparison or None (relation="auto")
+    """
+
+    def __init__(self, relation: str = DEFAULT_RELATION, loss: str = "linear", f_scale: float = 1.0,
+                 intervals: str = "profile", n_bootstrap: int = 1000, level: float = 0.95,
+                 random_state: int | None = 0):
+        self.relation = relation
+        self.loss = loss
+        self.f_scale = f_scale
+        self.intervals = intervals
+        self.n_bootstrap = n_bootstrap
+        self.level = level
+        self.random_state = random_state
+
+    def fit(self, X, y):
+        if self.intervals not in INTERVAL_METHODS:
+            raise ValueError(f"unknown interval method {self.intervals!r}; valid choices: "
+                             f"{', '.join(INTERVAL_METHODS)}")
+        x, yv = check_pairs(energy_column(X), y, min_n=2)
+        self.comparison_ = None
+        name = self.relation
+        if str(name).lower() == "auto":
+            self.comparison_ = compare_relations(x, yv, loss=self.loss)
+            if self.comparison_.best is None:
+                raise ValueError("no relation could be fitted to these data")
+            name = self.comparison_.best
+        relation = get_relation(name)
+        fit = fit_relation(relation, x, yv, loss=self.loss, f_scale=self.f_scale)
+        self.relation_ = relation
+        self.fit_ = fit
+        self.params_ = fit.params
+        self.cov_ = fit.cov
+        self.sigma_ = fit.sigma
+        self.dof_ = fit.dof
+        self.n_train_ = int(x.size)
+        self.energy_range_ = (float(np.min(x)), float(np.max(x)))
+        self.correlation_ = correlation_matrix(fit.cov)
+        self.ci_, self.ci_open_ = {}, {}
+        profile = None
+        method = self.intervals
+        if method == "profile" and self.loss != "linear":
+            method = "wald"  # profile-t assumes least squares
+        if method == "profile":
+            profile = profile_intervals(fit, x, yv, level=self.level)
+            self.ci_ = {k: (iv.low, iv.high) for k, iv in profile.items()}
+            self.ci_open_ = {k: (iv.low_open, iv.high_open) for k, iv in profile.items()}
+        elif method == "wald":
+            self.ci_ = wald_intervals(fit, self.level)
+        elif method == "bootstrap":
+            self.ci_ = bootstrap_intervals(fit, x, yv, self.level, self.n_bootstrap, self.random_state)
+        self.identifiability_ = None
+        if relation.name == "asymptotic" and self.intervals != "none":
+            self.identifiability_ = assess_identifiability(fit, x, yv, profile)
+        return self
+
+    # -- prediction -------------------------------------------------------------------------
+    def predict(self, X, return_std: bool = False, energy_std=None):
+        """Barrier (kcal/mol); with ``return_std`` also its predictive standard deviation."""
+        check_is_fitted(self, "params_")
+        x = energy_column(X)
+        mean = self.relation_.barrier(x, self.params_)
+        if not return_std:
+            return mean
+        return mean, np.sqrt(self.barrier_variance(x, energy_std))
+
+    def slope(self, X) -> np.ndarray:
+        """Local Leffler α at each reaction energy (dimensionless)."""
+        check_is_fitted(self, "params_")
+        return self.relation_.slope(energy_column(X), self.params_)
+
+    def barrier_variance(self, X, energy_std=None) -> np.ndarray:
+        """Predictive variance (kcal/mol)²: (α·σ_E)² + J·Cov·Jᵀ + σ²_residual."""
+        x = energy_column(X)
+        jac = self.relation_.jacobian(x, self.params_)
+        var = np.einsum("np,pq,nq->n", jac, self.cov_, jac)
+        sigma = self.sigma_ if np.isfinite(self.sigma_) else 0.0
+        var = var + sigma ** 2
+        if energy_std is not None:
+            s = np.nan_to_num(np.broadcast_to(np.asarray(energy_std, dtype=float), x.shape), nan=0.0)
+            var = var + (self.relation_.slope(x, self.params_) * s) ** 2
+        return var
+
+    def interval_quantile(self, level: float) -> float:
+        """Two-sided t quantile (dof of the curve fit) for a predictive interval."""
+        dof = max(int(self.dof_), 1)
+        return float(stats.t.ppf(0.5 + level / 2.0, dof))
+
+    def predict_interval(self, X, level: float = 0.90, energy_std=None):
+        """(mean, low, high) of the barrier, kcal/mol, at coverage ``level``."""
+        mean, std = self.predict(X, return_std=True, energy_std=energy_std)
+        q = self.interval_quantile(level)
+        return mean, mean - q * std, mean + q * std
+
+    def reverse_params(self) -> dict[str, float]:
+        """Parameters of the reverse-direction curve (asymptotic relation only)."""
+        check_is_fitted(self, "params_")
+        if self.relation_.name != "asymptotic":
+            raise ValueError("the reverse-direction curve is defined for the asymptotic relation")
+        return self.relation_.as_dict(self.relation_.reverse(self.params_))
+
+    def params_dict(self) -> dict[str, float]:
+        check_is_fitted(self, "params_")
+        return self.relation_.as_dict(self.params_)
+
+    def derived(self) -> dict[str, float]:
+        check_is_fitted(self, "params_")
+        return self.relation_.derived(self.params_)

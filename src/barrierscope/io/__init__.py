@@ -1,0 +1,1 @@
+"""Reading users' files and writing results safely."""

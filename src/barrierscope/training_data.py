@@ -1,0 +1,151 @@
+"""Turning a user's table into training pairs, or refusing with the rows that are wrong.
+
+Rules (the same for every command that fits):
+
+- energies and barriers must be finite numbers; a bad cell stops the fit with a list of
+  the rows and what is wrong, unless the user asks to skip bad rows, in which case each
+  skipped row is reported;
+- duplicate members (same structure, or same id where there is no structure) with the
+  same values are merged with a warning; with different values they are an error that
+  lists them;
+- values implausible for the stated unit (a likely hartree or kJ/mol mix-up) get a warning.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from .errors import FitRefused, InputError, describe_row
+from .io.tables import ROW, parse_numeric, require_columns, row_ids
+from .units import to_kcal, unit_mixup_hint
+
+#: Two values this close (kcal/mol) count as the same when merging duplicates.
+DUPLICATE_TOLERANCE = 1e-6
+
+
+@dataclass
+class RowProblem:
+    row: int
+    ident: str
+    message: str
+
+    def __str__(self) -> str:
+        return f"{describe_row(self.row, self.ident)}: {self.message}"
+
+
+@dataclass
+class Pairs:
+    """Validated (reaction energy, barrier) pairs in kcal/mol, with where each came from."""
+
+    ids: list[str]
+    rows: np.ndarray
+    energy: np.ndarray
+    barrier: np.ndarray
+    keep: np.ndarray                       # mask over the input rows that became members
+    warnings: list[str] = field(default_factory=list)
+    skipped: list[RowProblem] = field(default_factory=list)
+
+    @property
+    def n(self) -> int:
+        return int(self.energy.size)
+
+
+def format_problems(problems: list[RowProblem], limit: int = 20) -> str:
+    lines = [str(p) for p in problems[:limit]]
+    if len(problems) > limit:
+        lines.append(f"... and {len(problems) - limit} more")
+    return "\n  ".join(lines)
+
+
+def numeric_columns(df: pd.DataFrame, columns: dict[str, str], ids: pd.Series, unit: str) -> tuple[dict[str, np.ndarray], list[RowProblem]]:
+    """Parse each named column (role → column name) to kcal/mol; collect per-row problems."""
+    out: dict[str, np.ndarray] = {}
+    problems: list[RowProblem] = []
+    rows = df[ROW].to_numpy()
+    for role, col in columns.items():
+        values, bad = parse_numeric(df[col].reset_index(drop=True), col)
+        out[role] = to_kcal(values, unit)
+        problems += [RowProblem(int(rows[pos]), ids.iloc[pos], msg) for pos, msg in bad]
+    problems.sort(key=lambda p: p.row)
+    return out, problems
+
+
+def resolve_duplicates(keys: pd.Series, values: np.ndarray, ids: pd.Series, rows: np.ndarray,
+                       what: str) -> tuple[np.ndarray, list[str]]:
+    """Mask keeping the first of each group of duplicate ``keys``.
+
+    ``values`` is (n, k): duplicates with equal values are merged with a warning; any group
+    whose values differ raises :class:`InputError` listing the rows.
+    """
+    keep = np.ones(len(keys), dtype=bool)
+    warnings: list[str] = []
+    conflicts: list[str] = []
+    dup = keys.duplicated(keep=False).to_numpy()
+    if not dup.any():
+        return keep, warnings
+    groups = pd.Series(np.flatnonzero(dup)).groupby(keys.to_numpy()[dup], sort=False)
+    for key, positions in groups:
+        pos = positions.to_numpy()
+        block = values[pos]
+        same = np.all(np.abs(block - block[0]) <= DUPLICATE_TOLERANCE)
+        where = ", ".join(describe_row(int(rows[p]), ids.iloc[p]) for p in pos)
+        if same:
+            keep[pos[1:]] = False
+            warnings.append(f"{what} {key!r} appears {len(pos)} times with the same values ({where}); "
+                            f"kept once")
+        else:
+            shown = "; ".join(f"{describe_row(int(rows[p]), ids.iloc[p])}: "
+                              + ", ".join(f"{v:.6g}" for v in values[p]) for p in pos)
+            conflicts.append(f"{what} {key!r} has conflicting values — {shown}")
+    if conflicts:
+        raise InputError("the same member appears with different energies:\n  " + "\n  ".join(conflicts)
+                         + "\nresolve these rows (or give them distinct ids) and run again")
+    return keep, warnings
+
+
+def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str, unit: str = "kcal/mol",
+               id_col: str | None = None, skip_bad_rows: bool = False, keys: pd.Series | None = None,
+               extra_bad: list[RowProblem] | None = None) -> Pairs:
+    """Validated pairs from ``df``.
+
+    ``keys`` identify members for duplicate detection (canonical structures, say); by
+    default the id column is used when there is one. ``extra_bad`` are problems found by
+    the caller (unparseable structures, say) that also exclude rows.
+    """
+    require_columns(df, [energy_col, barrier_col], source)
+    ids = row_ids(df, id_col, source)
+    values, problems = numeric_columns(df, {"energy": energy_col, "barrier": barrier_col}, ids, unit)
+    problems = sorted(problems + list(extra_bad or []), key=lambda p: p.row)
+    rows = df[ROW].to_numpy()
+    bad_rows = {p.row for p in problems}
+    ok = np.array([r not in bad_rows for r in rows], dtype=bool)
+    if problems and not skip_bad_rows:
+        raise InputError(f"{source}: {len(bad_rows)} row(s) cannot be used:\n  {format_problems(problems)}\n"
+                         f"fix them, or pass --skip-bad-rows to leave them out (each will be listed)")
+    warnings: list[str] = []
+    if problems:
+        warnings.append(f"{len(bad_rows)} row(s) left out because of bad values (listed under 'skipped')")
+    if keys is None and (id_col or "id" in df.columns):
+        keys = ids
+    if keys is not None:
+        keys = pd.Series(np.asarray(keys, dtype=object)).reset_index(drop=True)
+        sub = np.flatnonzero(ok)
+        both = np.column_stack([values["energy"], values["barrier"]])
+        keep_sub, dup_warn = resolve_duplicates(keys.iloc[sub].reset_index(drop=True), both[sub],
+                                                ids.iloc[sub].reset_index(drop=True), rows[sub], "member")
+        warnings += dup_warn
+        ok[sub[~keep_sub]] = False
+    hint = unit_mixup_hint(values["barrier"][ok], unit)
+    if hint:
+        warnings.append(hint)
+    return Pairs(ids=[ids.iloc[i] for i in np.flatnonzero(ok)], rows=rows[ok], energy=values["energy"][ok],
+                 barrier=values["barrier"][ok], keep=ok, warnings=warnings,
+                 skipped=[p for p in problems])
+
+
+def require_members(n: int, needed: int, what: str) -> None:
+    if n < needed:
+        raise FitRefused(f"{n} usable member(s); {what} needs at least {needed}")

@@ -1,0 +1,126 @@
+"""Energy units and energy kinds.
+
+Inside barrierscope every energy is in kcal/mol (the thermochemical calorie,
+1 cal = 4.184 J exactly). Other units are converted with CODATA constants taken
+from :mod:`scipy.constants`, so the factors move with the library's CODATA
+release rather than with numbers typed here.
+"""
+
+from __future__ import annotations
+
+from enum import Enum
+
+import numpy as np
+from scipy import constants as _c
+
+#: Joules per thermochemical kilocalorie (exact by definition).
+J_PER_KCAL = 1000.0 * _c.calorie  # scipy's `calorie` is the thermochemical one, 4.184 J
+
+#: Multiply an energy in the unit by this factor to get kcal/mol.
+_TO_KCAL_PER_MOL: dict[str, float] = {
+    "kcal/mol": 1.0,
+    "kJ/mol": 1000.0 / J_PER_KCAL,
+    # One electronvolt per particle, as a molar energy.
+    "eV": _c.electron_volt * _c.Avogadro / J_PER_KCAL,
+    # One hartree per particle, as a molar energy.
+    "hartree": _c.physical_constants["Hartree energy"][0] * _c.Avogadro / J_PER_KCAL,
+}
+
+_ALIASES = {
+    "kcal/mol": "kcal/mol", "kcal": "kcal/mol", "kcalmol": "kcal/mol", "kcal mol-1": "kcal/mol",
+    "kj/mol": "kJ/mol", "kj": "kJ/mol", "kjmol": "kJ/mol", "kj mol-1": "kJ/mol",
+    "ev": "eV", "electronvolt": "eV",
+    "hartree": "hartree", "eh": "hartree", "ha": "hartree", "au": "hartree", "a.u.": "hartree",
+}
+
+#: The spellings shown to users, in the order offered.
+UNITS = ("kcal/mol", "kJ/mol", "eV", "hartree")
+
+#: A rough "typical magnitude" of barriers in each unit, used only to warn about mix-ups.
+#: Common practice: thermal barriers of organic reactions are a few to a few tens of kcal/mol.
+_PLAUSIBLE_BARRIER_KCAL = (0.0, 80.0)
+
+
+class UnitError(ValueError):
+    """An energy unit that barrierscope does not know."""
+
+
+def normalize_unit(unit: str) -> str:
+    """Return the canonical spelling of ``unit`` (one of :data:`UNITS`).
+
+    Raises :class:`UnitError` listing the valid choices when ``unit`` is unknown.
+    """
+    key = str(unit).strip().lower().replace("_", "/")
+    if key in _ALIASES:
+        return _ALIASES[key]
+    raise UnitError(f"unknown energy unit {unit!r}; valid choices: {', '.join(UNITS)}")
+
+
+def factor_to_kcal(unit: str) -> float:
+    """Factor that converts an energy in ``unit`` to kcal/mol (dimensionless multiplier)."""
+    return _TO_KCAL_PER_MOL[normalize_unit(unit)]
+
+
+def to_kcal(values, unit: str):
+    """Convert energies from ``unit`` to kcal/mol. Arrays and scalars both work."""
+    factor = factor_to_kcal(unit)
+    return np.asarray(values, dtype=float) * factor if np.ndim(values) else float(values) * factor
+
+
+def from_kcal(values, unit: str):
+    """Convert energies from kcal/mol to ``unit``."""
+    factor = factor_to_kcal(unit)
+    return np.asarray(values, dtype=float) / factor if np.ndim(values) else float(values) / factor
+
+
+class EnergyKind(str, Enum):
+    """What the energies are. barrierscope never mixes kinds within one model."""
+
+    FREE_ENERGY = "free-energy"   # Gibbs free energies: barriers give rates (Eyring)
+    ENTHALPY = "enthalpy"         # enthalpies: no rate without an entropy term
+    ELECTRONIC = "electronic"     # electronic energies (with or without ZPE): no rate
+
+    @property
+    def gives_rates(self) -> bool:
+        return self is EnergyKind.FREE_ENERGY
+
+
+ENERGY_KINDS = tuple(k.value for k in EnergyKind)
+
+
+def parse_energy_kind(kind: str) -> EnergyKind:
+    """Parse an energy kind, listing the valid choices when it is unknown."""
+    text = str(kind).strip().lower().replace("_", "-")
+    aliases = {"free": "free-energy", "gibbs": "free-energy", "g": "free-energy",
+               "h": "enthalpy", "e": "electronic", "energy": "electronic"}
+    text = aliases.get(text, text)
+    try:
+        return EnergyKind(text)
+    except ValueError:
+        raise ValueError(f"unknown energy kind {kind!r}; valid choices: {', '.join(ENERGY_KINDS)}") from None
+
+
+def unit_mixup_hint(barriers_kcal: np.ndarray, unit: str) -> str | None:
+    """A warning when barriers look implausible for the stated unit, else ``None``.
+
+    The test is a fact of the trade (common practice), not a rule: thermal barriers
+    in solution mostly lie between about 0 and 60 kcal/mol. A median far outside
+    that range usually means the numbers were given in another unit.
+    """
+    values = np.asarray(barriers_kcal, dtype=float)
+    values = values[np.isfinite(values)]
+    if values.size == 0:
+        return None
+    med = float(np.median(np.abs(values)))
+    lo, hi = _PLAUSIBLE_BARRIER_KCAL
+    if med > hi:
+        guesses = [u for u in UNITS if u != normalize_unit(unit)
+                   and lo < med * factor_to_kcal(u) / factor_to_kcal(unit) <= hi]
+        # A kJ/mol value read as kcal/mol is 4.184 times too large.
+        return (f"the median |barrier| is {med:.3g} kcal/mol after reading the data as {unit}; "
+                f"that is implausible for a thermal barrier. Were the energies in "
+                f"{' or '.join(guesses) if guesses else 'another unit'}? Check --units.")
+    if 0 < med < 0.2:
+        return (f"the median |barrier| is {med:.3g} kcal/mol after reading the data as {unit}; "
+                f"values this small usually mean hartree or eV read as kcal/mol. Check --units.")
+    return None

@@ -1,0 +1,154 @@
+"""Exact properties of the barrier–reaction-energy relations (METHOD §3)."""
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from barrierscope.relations import RELATIONS, get_relation
+from barrierscope.relations.asymptotic import (asymptotic_alpha, asymptotic_barrier, intrinsic_barrier,
+                                               reverse_parameters, uphill_excess)
+
+ASYM = get_relation("asymptotic")
+finite = dict(allow_nan=False, allow_infinity=False)
+params = st.tuples(st.floats(-20, 40, **finite), st.floats(-60, 60, **finite), st.floats(0.1, 50, **finite))
+
+EXAMPLE_THETA = {
+    "linear": [12.0, 0.4], "marcus": [40.0, 2.0], "marcus_nowork": [40.0], "agmon_levine": [12.0],
+    "rehm_weller": [12.0], "asymptotic": [5.0, -8.0, 6.0],
+}
+
+
+@settings(max_examples=300, deadline=None)
+@given(params, st.floats(-200, 200, **finite))
+def test_microscopic_reversibility(theta, de):
+    # Forward minus reverse barrier is the reaction energy; the reverse barrier, as a function
+    # of −dE, is the same curve with floor U = F − M and midpoint −M (METHOD §3.5).
+    f, m, w = theta
+    fwd = asymptotic_barrier(de, f, m, w)
+    rf, rm, rw = reverse_parameters(f, m, w)
+    rev = asymptotic_barrier(-de, rf, rm, rw)
+    assert fwd - rev == pytest.approx(de, abs=1e-9 * (1 + abs(de) + abs(f) + abs(m)))
+
+
+@settings(max_examples=200, deadline=None)
+@given(params)
+def test_slope_half_at_midpoint_and_curvature_peak(theta):
+    f, m, w = theta
+    assert asymptotic_alpha(m, m, w) == 0.5
+    grid = np.linspace(m - 5 * w, m + 5 * w, 2001)
+    curv = ASYM.curvature(grid, np.array(theta))
+    assert abs(grid[np.argmax(curv)] - m) <= 5 * w / 1000 + 1e-12
+    assert curv.max() == pytest.approx(0.25 / w, rel=1e-6)
+
+
+@settings(max_examples=200, deadline=None)
+@given(params)
+def test_asymptotes(theta):
+    f, m, w = theta
+    far = 1e7
+    assert asymptotic_barrier(-far, f, m, w) == pytest.approx(f, abs=1e-9)
+    assert asymptotic_barrier(far, f, m, w) - far == pytest.approx(uphill_excess(f, m), abs=1e-6)
+
+
+def test_no_overflow_anywhere():
+    x = np.array([-1e300, -1e6, -1.0, 0.0, 1.0, 1e6, 1e300])
+    for name in [*RELATIONS, "marcus_nowork"]:
+        rel = get_relation(name)
+        theta = np.array(EXAMPLE_THETA[name])
+        with np.errstate(over="raise", invalid="raise", divide="raise", under="ignore"):
+            y = rel.barrier(x[1:-1], theta)
+            s = rel.slope(x[1:-1], theta)
+            j = rel.jacobian(x[1:-1], theta)
+        assert np.all(np.isfinite(y)) and np.all(np.isfinite(s)) and np.all(np.isfinite(j)), name
+        assert np.all(np.isfinite(rel.barrier(x, theta))) or name == "linear"
+
+
+@pytest.mark.parametrize("g0", [0.5, 4.0, 11.0, 30.0])
+def test_agmon_levine_is_the_special_case(g0):
+    # F = 0, M = 0, W = G0/ln 2 reproduces the published Agmon–Levine formula
+    # (N. Agmon, R. D. Levine, Chem. Phys. Lett. 1977, 52, 197):
+    #   dG‡ = dG + (G0/ln 2) ln(1 + exp(−dG ln 2 / G0)).
+    x = np.linspace(-60, 60, 241)
+    published = x + (g0 / np.log(2)) * np.log1p(np.exp(-x * np.log(2) / g0))
+    assert np.allclose(asymptotic_barrier(x, 0.0, 0.0, g0 / np.log(2)), published, rtol=1e-12, atol=1e-12)
+    al = get_relation("agmon_levine")
+    assert np.allclose(al.barrier(x, np.array([g0])), published, rtol=1e-12, atol=1e-12)
+    assert al.barrier(np.array([0.0]), np.array([g0]))[0] == pytest.approx(g0, rel=1e-14)
+    assert al.slope(np.array([0.0]), np.array([g0]))[0] == 0.5
+
+
+def test_rehm_weller_published_form():
+    # D. Rehm, A. Weller, Isr. J. Chem. 1970, 8, 259: dG‡ = dG/2 + sqrt((dG/2)^2 + G0^2).
+    rw = get_relation("rehm_weller")
+    x = np.linspace(-80, 80, 161)
+    g0 = 9.0
+    published = x / 2 + np.sqrt((x / 2) ** 2 + g0 ** 2)
+    assert np.allclose(rw.barrier(x, np.array([g0])), published, rtol=1e-12)
+    assert rw.barrier(np.array([-1e8]), np.array([g0]))[0] == pytest.approx(g0 ** 2 / 1e8, rel=1e-6)
+
+
+def test_marcus_worked_example():
+    # Marcus (R. A. Marcus, J. Phys. Chem. 1968, 72, 891) in its expanded form
+    #   dG‡ = w + dG‡0 + dG/2 + dG²/(16 dG‡0),  dG‡0 = λ/4.
+    # Worked by hand (numbers ours): intrinsic barrier 10 kcal/mol (λ = 40), no work term,
+    # dG = −8 kcal/mol: 10 − 4 + 64/160 = 6.4 kcal/mol; dG = +12: 10 + 6 + 144/160 = 16.9.
+    marcus = get_relation("marcus")
+    y = marcus.barrier(np.array([-8.0, 12.0, 0.0]), np.array([40.0, 0.0]))
+    assert y == pytest.approx([6.4, 16.9, 10.0], abs=1e-12)
+    # With a work term w = 1.5 the whole curve shifts by w.
+    assert marcus.barrier(np.array([-8.0]), np.array([40.0, 1.5]))[0] == pytest.approx(7.9, abs=1e-12)
+    # Activationless at dG = −λ, slope 1/2 at dG = 0 (Marcus 1956, J. Chem. Phys. 24, 966).
+    assert marcus.barrier(np.array([-40.0]), np.array([40.0, 0.0]))[0] == pytest.approx(0.0, abs=1e-12)
+    assert marcus.slope(np.array([0.0]), np.array([40.0, 0.0]))[0] == 0.5
+
+
+def test_marcus_outside_normal_region_is_flagged_not_inverted():
+    marcus = get_relation("marcus")
+    theta = np.array([20.0, 1.0])
+    x = np.array([-50.0, -20.0, 0.0, 20.0, 50.0])
+    y = marcus.barrier(x, theta)
+    # No inverted branch: the barrier never rises again downhill of −λ.
+    assert y[0] == pytest.approx(1.0) and y[1] == pytest.approx(1.0)
+    assert y[-1] == pytest.approx(51.0)
+    assert marcus.outside_validity(x, theta).tolist() == [True, True, False, True, True]
+
+
+@pytest.mark.parametrize("name", [*RELATIONS, "marcus_nowork"])
+def test_analytic_jacobian_and_slope(name):
+    rel = get_relation(name)
+    theta = np.array(EXAMPLE_THETA[name], dtype=float)
+    x = np.linspace(-35, 35, 71) + 0.123  # avoid Marcus's joins at exactly ±λ
+    jac = rel.jacobian(x, theta)
+    h = 1e-6
+    num = np.stack([(rel.barrier(x, theta + e) - rel.barrier(x, theta - e)) / (2 * h)
+                    for e in np.eye(theta.size) * h], axis=-1)
+    assert np.allclose(jac, num, atol=1e-6)
+    num_slope = (rel.barrier(x + h, theta) - rel.barrier(x - h, theta)) / (2 * h)
+    assert np.allclose(rel.slope(x, theta), num_slope, atol=1e-6)
+
+
+@pytest.mark.parametrize("name", [*RELATIONS])
+def test_batched_evaluation_matches_single(name):
+    rel = get_relation(name)
+    theta = np.array(EXAMPLE_THETA[name], dtype=float)
+    many = np.stack([theta, theta * 1.1, theta * 0.9])
+    x = np.linspace(-30, 30, 13)
+    batched = rel.barrier(x, many)
+    for k in range(3):
+        assert np.array_equal(batched[k], rel.barrier(x, many[k]))
+    assert rel.jacobian(x, many).shape == (3, x.size, theta.size)
+
+
+def test_intrinsic_barrier_and_derived():
+    f, m, w = 4.0, -10.0, 5.0
+    assert intrinsic_barrier(f, m, w) == pytest.approx(asymptotic_barrier(0.0, f, m, w))
+    d = ASYM.derived(np.array([f, m, w]))
+    assert d["uphill_excess"] == 14.0
+    assert d["alpha_at_zero"] == pytest.approx(1 / (1 + np.exp(-2.0)))
+    assert ASYM.reverse(np.array([f, m, w])).tolist() == [14.0, 10.0, 5.0]
+
+
+def test_unknown_relation_lists_choices():
+    with pytest.raises(ValueError, match="valid choices: linear, marcus, agmon_levine, rehm_weller, asymptotic"):
+        get_relation("bep2")
