@@ -141,6 +141,80 @@ def curve(
         typer.echo(format_curve_summary(summary))
 
 
+STRUCTURE_HELP = {
+    "substituents": "Comma-separated columns of substituent SMILES, one attachment atom each ([*]C#N).",
+    "molecule": "Column of whole-molecule SMILES (with --core: molecules to cut at the core).",
+    "core": "Core SMILES with numbered attachment points, e.g. 'OC(=O)c1ccc([*:1])cc1'.",
+    "reaction": "Column of reaction SMILES 'A.B>>P' (atom maps allowed).",
+    "template": "Reaction template 'REACTANTS>>PRODUCTS' with [*:1], [*:2] filled from --substituents.",
+}
+
+
+def structure_spec(substituents, molecule, core, reaction=None, template=None):
+    from .structures.core import CoreError
+    from .structures.spec import make_spec
+
+    try:
+        return make_spec(substituents=substituents, molecule=molecule, core=core, reaction=reaction,
+                         template=template)
+    except CoreError as exc:
+        raise ValueError(str(exc)) from None
+
+
+def make_engine(tiers: str, cache_dir: Optional[Path], workers: int = 1, scheduler: Optional[str] = None):
+    from .descriptors.cache import DescriptorCache
+    from .descriptors.tiers import DescriptorEngine, parse_tiers
+
+    names = parse_tiers(tiers)
+    cache = DescriptorCache(cache_dir if cache_dir is not None else "default")
+    executor = None
+    if workers > 1 or scheduler:
+        from .engine import make_executor
+
+        executor = make_executor(workers=workers, scheduler=scheduler)
+    return DescriptorEngine(names, cache, executor=executor)
+
+
+@app.command()
+@guarded
+def descriptors(
+    data: Path = typer.Argument(..., help="Table of structures (CSV, TSV, SMILES file, SDF, Parquet)."),
+    substituents: Optional[str] = typer.Option(None, "--substituents", help=STRUCTURE_HELP["substituents"]),
+    molecule: Optional[str] = typer.Option(None, "--molecule", help=STRUCTURE_HELP["molecule"]),
+    core: Optional[str] = typer.Option(None, "--core", help=STRUCTURE_HELP["core"]),
+    reaction: Optional[str] = typer.Option(None, "--reaction", help=STRUCTURE_HELP["reaction"]),
+    template: Optional[str] = typer.Option(None, "--template", help=STRUCTURE_HELP["template"]),
+    tiers: str = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none)."),
+    output: Path = typer.Option(..., "-o", "--output", help="Output table (.csv, .tsv or .parquet)."),
+    id_column: Optional[str] = typer.Option(None, "--id", help="Column with row ids (default: 'id' if present)."),
+    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder (default: user cache)."),
+    max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
+    workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers (xtb, steric3d)."),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' or a Dask scheduler address."),
+    quiet: bool = typer.Option(False, "--quiet", help="No summary on stderr."),
+):
+    """Compute descriptors: one output row per input row, with a status column."""
+    from .descriptors.run import describe_file
+    from .io.tables import write_table
+
+    spec = structure_spec(substituents, molecule, core, reaction, template)
+    if spec.mode == "none":
+        raise ValueError("say where the structures are: --substituents, --molecule (with or without --core), "
+                         "--reaction, or --template with --substituents")
+    engine = make_engine(tiers, cache_dir, workers, scheduler)
+    table = describe_file(data, spec, engine, id_column=id_column, max_atoms=max_atoms)
+    write_table(table, output)
+    if not quiet:
+        bad = table["status"] != "ok"
+        noted = table["notes"] != ""
+        typer.echo(f"{len(table)} rows: {int((~bad).sum())} ok, {int(bad.sum())} with errors, "
+                   f"{int(noted.sum())} with missing descriptor values; written to {output}", err=True)
+        for _, r in table[bad].head(10).iterrows():
+            typer.echo(f"  row {r['row']} ({r['id']}): {r['status']}", err=True)
+        if bad.sum() > 10:
+            typer.echo(f"  ... and {int(bad.sum()) - 10} more (see the status column)", err=True)
+
+
 def main() -> None:  # console-script entry point
     app()
 

@@ -1,0 +1,174 @@
+"""Rows of a table → descriptor matrix, with a status for every row.
+
+Structures are first resolved to canonical units (substituent keys per position, or whole
+molecules), distinct units are described once through the :class:`DescriptorEngine`, and
+the per-row matrix is assembled by index. Column names are ``<position>_<descriptor>``.
+Nothing is dropped: a row whose structure fails gets its message in ``status`` and NaN
+descriptors.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..structures.checks import DEFAULT_MAX_HEAVY_ATOMS, StructureError
+from ..structures.spec import InputSpec
+from .tiers import DescriptorEngine
+
+OK = "ok"
+
+
+@dataclass
+class Resolution:
+    """Canonical units per row; ``errors[i]`` is None for a good row."""
+
+    kind: str                                  # "substituent" or "molecule"
+    positions: tuple[str, ...]
+    keys: dict[str, np.ndarray]                # position → object array of keys (None where failed)
+    errors: np.ndarray                         # object array of messages or None
+    error_kinds: np.ndarray                    # object array of short kinds or None
+    extra: dict[str, np.ndarray] = field(default_factory=dict)
+
+
+def _factorized(values: pd.Series):
+    codes, uniques = pd.factorize(values.astype(str).fillna(""), sort=False)
+    return codes, list(uniques)
+
+
+def _per_unique(texts, resolve):
+    """Apply ``resolve`` to each distinct text; (results, error messages, error kinds) arrays."""
+    results = np.full(len(texts), None, dtype=object)
+    messages = np.full(len(texts), None, dtype=object)
+    kinds = np.full(len(texts), None, dtype=object)
+    for u, text in enumerate(texts):
+        try:
+            results[u] = resolve(text)
+        except StructureError as exc:
+            messages[u] = str(exc)
+            kinds[u] = exc.kind
+    return results, messages, kinds
+
+
+def _first_error(errors, kinds, new_messages, new_kinds, prefix: str):
+    """Keep the first problem of each row; later ones are implied by it."""
+    take = pd.isna(errors) & pd.notna(new_messages)
+    errors[take] = [f"{prefix}: {m}" for m in new_messages[take]]
+    kinds[take] = new_kinds[take]
+
+
+def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> Resolution:
+    """Canonical units of every row of ``df`` according to ``spec``.
+
+    Each distinct cell is resolved once and the results are taken by index, so a library
+    with few distinct substituents costs few RDKit parses.
+    """
+    n = len(df)
+    errors = np.full(n, None, dtype=object)
+    kinds = np.full(n, None, dtype=object)
+
+    if spec.mode == "substituents":
+        from ..structures.substituent import substituent_key
+
+        keys = {}
+        for col in spec.columns:
+            codes, uniques = _factorized(df[col])
+            resolved, msg, kind = _per_unique(uniques, substituent_key)
+            keys[col] = resolved[codes]
+            _first_error(errors, kinds, msg[codes], kind[codes], col)
+        return Resolution("substituent", spec.positions, keys, errors, kinds)
+
+    if spec.mode == "core":
+        from ..structures.core import CoreDecomposer
+
+        decomposer = CoreDecomposer(spec.core)
+        col = spec.columns[0]
+        codes, uniques = _factorized(df[col])
+        resolved, msg, kind = _per_unique(uniques, lambda t: decomposer.decompose_smiles(t, max_atoms))
+        _first_error(errors, kinds, msg[codes], kind[codes], col)
+        keys = {}
+        for j, p in enumerate(spec.positions):
+            per_u = np.array([r[j] if r is not None else None for r in resolved], dtype=object)
+            keys[p] = per_u[codes]
+        return Resolution("substituent", spec.positions, keys, errors, kinds)
+
+    if spec.mode == "molecule":
+        from ..structures.molecule import molecule_key
+
+        col = spec.columns[0]
+        codes, uniques = _factorized(df[col])
+        resolved, msg, kind = _per_unique(uniques, lambda t: molecule_key(t, max_atoms))
+        _first_error(errors, kinds, msg[codes], kind[codes], col)
+        return Resolution("molecule", spec.positions, {spec.positions[0]: resolved[codes]}, errors, kinds)
+
+    if spec.mode in ("reaction", "template"):
+        from ..structures.reaction import resolve_reactions
+
+        return resolve_reactions(df, spec, max_atoms)
+
+    raise ValueError(f"input mode {spec.mode!r} has no structures to describe")
+
+
+@dataclass
+class FeatureBlock:
+    """Descriptor matrix of a chunk of rows, with per-row status and notes."""
+
+    X: pd.DataFrame
+    status: np.ndarray          # "ok" or the message
+    error_kind: np.ndarray      # "" or a short kind ("unparseable", "core_unmatched", ...)
+    notes: np.ndarray           # "" or semicolon-separated notes (missing descriptor values)
+    units: dict[str, np.ndarray]
+
+    @property
+    def ok(self) -> np.ndarray:
+        return self.status == OK
+
+
+def feature_names(spec: InputSpec, engine: DescriptorEngine, kind: str) -> list[str]:
+    return [f"{p}_{c}" for p in spec.positions for c in engine.columns(kind)]
+
+
+def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
+              max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS, resolution: Resolution | None = None) -> FeatureBlock:
+    """Descriptors for every row of ``df``; see the module docstring."""
+    res = resolution if resolution is not None else resolve_structures(df, spec, max_atoms)
+    n = len(df)
+    cols = engine.columns(res.kind)
+    errors = res.errors.copy()
+    kinds = res.error_kinds.copy()
+    blocks = {}
+    notes_parts = []
+    all_keys = [k for p in res.positions for k in res.keys[p] if k is not None]
+    table = engine.describe(all_keys, res.kind)
+    values = table.values
+    for p in res.positions:
+        keys = pd.Series(res.keys[p], dtype=object)
+        codes, uniques = pd.factorize(keys, use_na_sentinel=True)
+        uniq = list(uniques)
+        mat = values.reindex(uniq).to_numpy(dtype=float) if uniq else np.empty((0, len(cols)))
+        out = np.full((n, len(cols)), np.nan)
+        good = codes >= 0
+        if uniq:
+            out[good] = mat[codes[good]]
+        for j, c in enumerate(cols):
+            blocks[f"{p}_{c}"] = out[:, j]
+        unit_err = np.array([table.errors.get(k) for k in uniq] + [None], dtype=object)[codes]
+        for i in np.flatnonzero(pd.notna(unit_err) & pd.isna(errors)):
+            errors[i] = f"{p} ({res.keys[p][i]}): {unit_err[i]}"
+            kinds[i] = "descriptor"
+        unit_notes = np.array(["; ".join(table.notes.get(k, [])) for k in uniq] + [""], dtype=object)[codes]
+        notes_parts.append((p, unit_notes))
+    X = pd.DataFrame(blocks, index=df.index)
+    failed = pd.notna(errors)
+    if failed.any():  # a row that failed carries no half-finished descriptors
+        X.loc[failed, :] = np.nan
+    notes = np.array(["; ".join(f"{p}: {parts[i]}" for p, parts in notes_parts if parts[i])
+                      for i in range(n)], dtype=object) if any(
+        (parts != "").any() for _, parts in notes_parts) else np.full(n, "", dtype=object)
+    status = np.where(pd.isna(errors), OK, errors).astype(object)
+    kind_out = np.where(pd.isna(kinds), "", kinds).astype(object)
+    units = {p: res.keys[p] for p in res.positions}
+    units.update(res.extra)
+    return FeatureBlock(X=X, status=status, error_kind=kind_out, notes=notes, units=units)

@@ -1,0 +1,38 @@
+"""The `descriptors` job: a table in, one row out per input row, with a status."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..io.tables import ROW, iter_table, require_columns, row_ids
+from ..structures.checks import DEFAULT_MAX_HEAVY_ATOMS
+from ..structures.spec import InputSpec
+from .featurize import featurize
+from .tiers import DescriptorEngine
+
+
+def structure_columns(spec: InputSpec) -> list[str]:
+    return list(spec.columns)
+
+
+def describe_chunk(chunk: pd.DataFrame, source: str, spec: InputSpec, engine: DescriptorEngine,
+                   id_column: str | None = None, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> pd.DataFrame:
+    require_columns(chunk, structure_columns(spec), source)
+    chunk = chunk.reset_index(drop=True)
+    block = featurize(chunk, spec, engine, max_atoms=max_atoms)
+    out = pd.DataFrame({"row": chunk[ROW].to_numpy(), "id": row_ids(chunk, id_column, source).to_numpy()})
+    for c in structure_columns(spec):
+        out[c] = chunk[c].to_numpy()
+    out["status"] = block.status
+    out["notes"] = block.notes
+    for p, keys in block.units.items():
+        out[f"{p}_canonical"] = np.where(pd.isna(keys), "", keys)
+    return pd.concat([out, block.X.reset_index(drop=True)], axis=1)
+
+
+def describe_file(path, spec: InputSpec, engine: DescriptorEngine, id_column: str | None = None,
+                  chunk_size: int | None = None, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> pd.DataFrame:
+    parts = [describe_chunk(c, str(path), spec, engine, id_column, max_atoms)
+             for c in iter_table(path, chunk_size=chunk_size)]
+    return pd.concat(parts, ignore_index=True)

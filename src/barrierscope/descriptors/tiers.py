@@ -1,0 +1,252 @@
+"""Descriptor tiers by name, and the engine that fills them through the cache.
+
+A tier is a family of descriptors with one cost: ``2d`` (microseconds, RDKit), ``table``
+(a lookup), ``xtb`` (about a second per substituent, GFN2-xTB), ``steric3d`` (conformers and
+Sterimol). Each tier describes substituents, whole molecules, or both; its code version is
+part of every cache key, so changing a tier's code means bumping its version.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import pandas as pd
+
+from .cache import DescriptorCache
+
+
+@dataclass(frozen=True)
+class Tier:
+    name: str
+    version: str
+    substituent_columns: tuple[str, ...] = ()
+    molecule_columns: tuple[str, ...] = ()
+    substituent_fn: Callable[[str], dict] | None = None
+    molecule_fn: Callable[[str], dict] | None = None
+    slow: bool = False          # worth spreading over processes or a cluster
+    extra: str | None = None    # the pip extra that provides it
+    description: str = ""
+    #: Run once in the calling process before units are computed; its (picklable) result is
+    #: passed to every unit computation as ``context`` (the xtb tier's σ calibration).
+    prepare: Callable[[DescriptorCache, str], object] | None = None
+
+    def columns(self, kind: str) -> tuple[str, ...]:
+        return self.substituent_columns if kind == "substituent" else self.molecule_columns
+
+    def function(self, kind: str):
+        return self.substituent_fn if kind == "substituent" else self.molecule_fn
+
+
+# Tier functions take (key, context); heavy modules are imported only when a tier runs.
+def _topological_substituent(key, context=None):
+    from .topological import substituent_descriptors
+    return substituent_descriptors(key)
+
+
+def _topological_molecule(key, context=None):
+    from ..structures.molecule import molecule_from_key
+    from .topological import molecule_descriptors
+    return molecule_descriptors(molecule_from_key(key))
+
+
+def _table_substituent(key, context=None):
+    from .hammett import table_descriptors
+    return table_descriptors(key)
+
+
+def _xtb_prepare(cache, kind):
+    if kind != "substituent":
+        return None
+    from .xtb_sigma import calibration
+    return calibration(cache)
+
+
+def _xtb_substituent(key, context=None):
+    from .xtb_sigma import xtb_sigma_descriptors
+    return xtb_sigma_descriptors(key, context)
+
+
+def _xtb_molecule(key, context=None):
+    from .xtb_orbitals import xtb_molecule_descriptors
+    return xtb_molecule_descriptors(key)
+
+
+def _steric_substituent(key, context=None):
+    from .sterics import sterimol_descriptors
+    return sterimol_descriptors(key)
+
+
+def _steric_molecule(key, context=None):
+    from .sterics import molecule_shape_descriptors
+    return molecule_shape_descriptors(key)
+
+
+def _build_registry() -> dict[str, Tier]:
+    from . import hammett, topological
+
+    tiers = [
+        Tier("2d", topological.VERSION, topological.SUBSTITUENT_COLUMNS, topological.MOLECULE_COLUMNS,
+             _topological_substituent, _topological_molecule,
+             description="RDKit 2D descriptors (microseconds)"),
+        Tier("table", hammett.VERSION, hammett.COLUMNS, (), _table_substituent, None,
+             description="Hammett σm, σp, F, R from Hansch, Leo, Taft, Chem. Rev. 1991, 91, 165"),
+        Tier("xtb", "xtb-1", ("sigma_m_xtb", "sigma_p_xtb"), ("homo_xtb", "lumo_xtb", "gap_xtb", "dipole_xtb"),
+             _xtb_substituent, _xtb_molecule, slow=True, extra="xtb",
+             description="GFN2-xTB Hammett-like scale (substituents) or orbital energies (molecules)",
+             prepare=_xtb_prepare),
+        Tier("steric3d", "steric3d-1", ("sterimol_l", "sterimol_b1", "sterimol_b5", "buried_volume"),
+             ("sasa", "volume"), _steric_substituent, _steric_molecule, slow=True, extra="steric",
+             description="Sterimol L, B1, B5 and buried volume from a low-energy conformer"),
+    ]
+    return {t.name: t for t in tiers}
+
+
+TIERS = _build_registry()
+DEFAULT_TIERS = ("2d", "table")
+
+
+def parse_tiers(text: str | None) -> tuple[str, ...]:
+    """``"2d,table"`` → ("2d", "table"); ``"none"`` → (); unknown names list the choices."""
+    if text is None:
+        return DEFAULT_TIERS
+    names = tuple(t.strip().lower() for t in str(text).split(",") if t.strip())
+    if names in ((), ("none",)):
+        return ()
+    unknown = [n for n in names if n not in TIERS]
+    if unknown:
+        raise ValueError(f"unknown descriptor tier(s) {', '.join(map(repr, unknown))}; valid choices: "
+                         f"{', '.join(TIERS)}, none")
+    if len(set(names)) != len(names):
+        raise ValueError("a descriptor tier is named twice in --tiers")
+    return names
+
+
+class DescriptorError(RuntimeError):
+    """A tier could not describe one unit (a substituent or a molecule)."""
+
+
+@dataclass
+class UnitTable:
+    """Descriptors of distinct units (index: canonical key), plus per-key errors and notes."""
+
+    values: pd.DataFrame
+    errors: dict[str, str]
+    notes: dict[str, list[str]]
+
+
+class DescriptorEngine:
+    """Fills tiers for sets of canonical keys: memory first, then the SQLite cache, then compute.
+
+    ``executor`` (optional) maps a function over keys for slow tiers — a process pool or a
+    Dask client wrapper from :mod:`barrierscope.engine`; results are identical either way.
+    """
+
+    def __init__(self, tiers=DEFAULT_TIERS, cache: DescriptorCache | None = None, executor=None):
+        self.tiers = tuple(tiers)
+        self.cache = cache if cache is not None else DescriptorCache(None)
+        self.executor = executor
+        self._memo: dict[tuple[str, str, str], dict] = {}
+        self._contexts: dict[tuple[str, str], object] = {}
+        self.computed = 0
+        self.hits = 0
+
+    def columns(self, kind: str) -> list[str]:
+        return [c for t in self.tiers for c in TIERS[t].columns(kind)]
+
+    def _payloads(self, tier: Tier, kind: str, keys: list[str]) -> dict[str, dict]:
+        scope = f"{tier.name}:{kind}"
+        out: dict[str, dict] = {}
+        missing = []
+        for k in keys:
+            hit = self._memo.get((scope, tier.version, k))
+            if hit is not None:
+                out[k] = hit
+            else:
+                missing.append(k)
+        if missing:
+            stored = self.cache.get_many(scope, tier.version, missing)
+            for k, v in stored.items():
+                out[k] = v
+                self._memo[(scope, tier.version, k)] = v
+            self.hits += len(keys) - len(missing) + len(stored)
+            todo = [k for k in missing if k not in stored]
+        else:
+            self.hits += len(keys)
+            todo = []
+        if todo:
+            context = self._context(tier, kind)
+            if isinstance(context, dict) and context.get("error"):
+                results = [context for _ in todo]
+            elif tier.slow and self.executor is not None and len(todo) > 1:
+                results = list(self.executor.map(_compute_payload, [(tier.name, kind, k, context) for k in todo]))
+            else:
+                results = [_compute_payload((tier.name, kind, k, context)) for k in todo]
+            fresh = dict(zip(todo, results))
+            self.computed += len(todo)
+            # An error caused by this machine (a missing package) must not outlive the fix.
+            self.cache.put_many(scope, tier.version, {k: v for k, v in fresh.items() if not v.get("transient")})
+            for k, v in fresh.items():
+                out[k] = v
+                self._memo[(scope, tier.version, k)] = v
+        return out
+
+    def _context(self, tier: Tier, kind: str):
+        if tier.prepare is None:
+            return None
+        if (tier.name, kind) not in self._contexts:
+            try:
+                self._contexts[(tier.name, kind)] = tier.prepare(self.cache, kind)
+            except ImportError as exc:
+                self._contexts[(tier.name, kind)] = {
+                    "error": f"needs an optional package ({exc.name or exc}); pip install "
+                             f"'barrierscope[{tier.extra}]'", "transient": True}
+        return self._contexts[(tier.name, kind)]
+
+    def describe(self, keys, kind: str) -> UnitTable:
+        """Descriptors of every distinct key, for ``kind`` "substituent" or "molecule"."""
+        keys = list(dict.fromkeys(keys))
+        columns = self.columns(kind)
+        data = {k: {} for k in keys}
+        errors: dict[str, str] = {}
+        notes: dict[str, list[str]] = {}
+        for name in self.tiers:
+            tier = TIERS[name]
+            cols = tier.columns(kind)
+            if not cols:
+                continue
+            payloads = self._payloads(tier, kind, keys)
+            for k in keys:
+                p = payloads[k]
+                if p.get("error"):
+                    errors.setdefault(k, f"{name} tier: {p['error']}")
+                    data[k].update({c: math.nan for c in cols})
+                    continue
+                vals = p["values"]
+                data[k].update({c: vals.get(c, math.nan) for c in cols})
+                gaps = [c for c in cols if not _finite(vals.get(c))]
+                if gaps:
+                    notes.setdefault(k, []).append(f"{name}: no value for {', '.join(gaps)}")
+        frame = pd.DataFrame.from_dict(data, orient="index", columns=columns, dtype=float)
+        return UnitTable(frame, errors, notes)
+
+
+def _finite(v) -> bool:
+    return isinstance(v, (int, float)) and math.isfinite(v)
+
+
+def _compute_payload(args) -> dict:
+    """One unit through one tier: {"values": {...}} or {"error": "..."} (never raises)."""
+    name, kind, key, context = args
+    fn = TIERS[name].function(kind)
+    try:
+        values = fn(key, context)
+    except ImportError as exc:
+        extra = TIERS[name].extra
+        return {"error": f"needs an optional package ({exc.name or exc}); pip install 'barrierscope[{extra}]'",
+                "transient": True}
+    except Exception as exc:  # one bad unit must not stop a library; the row gets the message
+        text = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        return {"error": text[:300]}
+    return {"values": {k: float(v) for k, v in values.items()}}

@@ -1,0 +1,94 @@
+"""Where work runs: this process, local worker processes, or a Dask cluster.
+
+Every executor offers ``map(fn, items)`` returning results in the order of ``items``, so
+the output of a run does not depend on where it ran. ``fn`` and the items must be picklable
+(module-level functions, plain data).
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Iterable, Iterator
+
+
+def _worker_init() -> None:
+    # Each worker does small molecules one at a time: one BLAS/OpenMP thread each.
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ[var] = "1"
+    from .structures.checks import quiet_rdkit
+
+    quiet_rdkit()
+
+
+class SerialExecutor:
+    workers = 1
+
+    def map(self, fn: Callable, items: Iterable) -> Iterator:
+        return map(fn, items)
+
+    def close(self) -> None:
+        pass
+
+
+class ProcessExecutor:
+    """A pool of local processes (``--workers N``)."""
+
+    def __init__(self, workers: int):
+        import multiprocessing as mp
+        from concurrent.futures import ProcessPoolExecutor
+
+        self.workers = int(workers)
+        ctx = mp.get_context("spawn" if os.environ.get("BARRIERSCOPE_SPAWN") else "fork")
+        self._pool = ProcessPoolExecutor(max_workers=self.workers, mp_context=ctx, initializer=_worker_init)
+
+    def map(self, fn: Callable, items: Iterable) -> Iterator:
+        return self._pool.map(fn, items)
+
+    def close(self) -> None:
+        self._pool.shutdown(wait=True, cancel_futures=True)
+
+
+class DaskExecutor:
+    """Tasks on a Dask cluster: ``local`` starts a loopback cluster, else an address to join."""
+
+    def __init__(self, scheduler: str, workers: int | None = None, retries: int = 2):
+        try:
+            from dask.distributed import Client, LocalCluster
+        except ImportError:
+            raise ImportError("the Dask scheduler needs the 'scale' extra: pip install 'barrierscope[scale]'") from None
+        self.retries = retries
+        self._cluster = None
+        if scheduler == "local":
+            n = int(workers or os.cpu_count() or 1)
+            self._cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
+                                         host="127.0.0.1", dashboard_address=None)
+            self._client = Client(self._cluster)
+        else:
+            self._client = Client(scheduler, timeout="30s")
+        self._client.run(_worker_init)
+        self.workers = max(1, len(self._client.scheduler_info().get("workers", {})))
+
+    @property
+    def client(self):
+        return self._client
+
+    def map(self, fn: Callable, items: Iterable) -> Iterator:
+        items = list(items)
+        futures = self._client.map(fn, items, pure=False, retries=self.retries)
+        # as results arrive, yield in submission order so outputs match a serial run
+        for f in futures:
+            yield f.result()
+
+    def close(self) -> None:
+        self._client.close()
+        if self._cluster is not None:
+            self._cluster.close()
+
+
+def make_executor(workers: int = 1, scheduler: str | None = None):
+    """The executor for ``--workers`` and ``--scheduler``."""
+    if scheduler:
+        return DaskExecutor(scheduler, workers if workers > 1 else None)
+    if workers and workers > 1:
+        return ProcessExecutor(workers)
+    return SerialExecutor()

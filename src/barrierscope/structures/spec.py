@@ -1,0 +1,72 @@
+"""Which columns of a table hold structures, and how to read them (recorded in model files)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+MODES = ("substituents", "core", "molecule", "reaction", "template", "none")
+
+
+@dataclass(frozen=True)
+class InputSpec:
+    """How a row's structure is given.
+
+    - ``substituents``: ``columns`` are the substituent columns (positions are their names);
+    - ``core``: ``columns`` = (molecule column,), ``core`` the core SMILES; positions R1, R2...;
+    - ``molecule``: ``columns`` = (molecule column,); the position is the column's name;
+    - ``reaction``: ``columns`` = (reaction SMILES column,); positions reactant1..., product;
+    - ``template``: ``columns`` are substituent columns, ``template`` the reaction template;
+    - ``none``: no structures (a curve-only model; energies come from the table).
+    """
+
+    mode: str
+    columns: tuple[str, ...] = ()
+    core: str | None = None
+    template: str | None = None
+    positions: tuple[str, ...] = field(default=())
+
+    def __post_init__(self):
+        if self.mode not in MODES:
+            raise ValueError(f"unknown input mode {self.mode!r}; valid choices: {', '.join(MODES)}")
+
+    def as_dict(self) -> dict:
+        return {"mode": self.mode, "columns": list(self.columns), "core": self.core,
+                "template": self.template, "positions": list(self.positions)}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "InputSpec":
+        return cls(mode=d["mode"], columns=tuple(d.get("columns") or ()), core=d.get("core"),
+                   template=d.get("template"), positions=tuple(d.get("positions") or ()))
+
+
+def make_spec(substituents: str | None = None, molecule: str | None = None, core: str | None = None,
+              reaction: str | None = None, template: str | None = None) -> InputSpec:
+    """The spec from command-line options; the error says which combinations are allowed."""
+    subs = tuple(c.strip() for c in substituents.split(",") if c.strip()) if substituents else ()
+    given = [n for n, v in (("--substituents", subs), ("--molecule", molecule), ("--reaction", reaction)) if v]
+    if template and not subs:
+        raise ValueError("--template needs --substituents (the columns whose groups fill its attachment points)")
+    if template:
+        if molecule or reaction:
+            raise ValueError("--template goes with --substituents only")
+        from .reaction import ReactionTemplate
+
+        t = ReactionTemplate(template)
+        return InputSpec("template", subs, template=template, positions=t.species_names)
+    if len(given) > 1:
+        raise ValueError(f"give one structure input, not {' and '.join(given)}")
+    if core and not molecule:
+        raise ValueError("--core needs --molecule (the column of whole molecules to cut at the core)")
+    if subs:
+        if len(set(subs)) != len(subs):
+            raise ValueError("--substituents names a column twice")
+        return InputSpec("substituents", subs, positions=subs)
+    if molecule and core:
+        from .core import CoreDecomposer
+
+        return InputSpec("core", (molecule,), core=core, positions=tuple(CoreDecomposer(core).positions))
+    if molecule:
+        return InputSpec("molecule", (molecule,), positions=(molecule,))
+    if reaction:
+        return InputSpec("reaction", (reaction,), positions=("reactant1", "reactant2", "product"))
+    return InputSpec("none")
