@@ -215,6 +215,69 @@ def descriptors(
             typer.echo(f"  ... and {int(bad.sum()) - 10} more (see the status column)", err=True)
 
 
+@app.command()
+@guarded
+def fit(
+    data: Path = typer.Argument(..., help="Table with one row per computed member."),
+    energy: str = typer.Option(..., "--energy", help="Column with the reaction energy (product − reactant)."),
+    barrier: str = typer.Option(..., "--barrier", help="Column with the barrier (TS − reactant)."),
+    output: Path = typer.Option(..., "-o", "--output", help="Model file to write (JSON)."),
+    substituents: Optional[str] = typer.Option(None, "--substituents", help=STRUCTURE_HELP["substituents"]),
+    molecule: Optional[str] = typer.Option(None, "--molecule", help=STRUCTURE_HELP["molecule"]),
+    core: Optional[str] = typer.Option(None, "--core", help=STRUCTURE_HELP["core"]),
+    reaction: Optional[str] = typer.Option(None, "--reaction", help=STRUCTURE_HELP["reaction"]),
+    template: Optional[str] = typer.Option(None, "--template", help=STRUCTURE_HELP["template"]),
+    tiers: str = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none)."),
+    learner: str = typer.Option("ridge", "--learner", help="ridge, pls, gp or forest."),
+    relation: str = typer.Option("asymptotic", "--relation",
+                                 help="asymptotic, linear, marcus, agmon_levine, rehm_weller or auto."),
+    units: str = typer.Option("kcal/mol", "--units", help=UNITS_HELP),
+    kind: str = typer.Option("free-energy", "--kind", help=KIND_HELP),
+    extra_descriptors: Optional[str] = typer.Option(None, "--extra-descriptors",
+                                                    help="Comma-separated numeric columns of your own descriptors."),
+    id_column: Optional[str] = typer.Option(None, "--id", help="Column with member ids (default: 'id' if present)."),
+    shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
+    skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) rows that cannot be used."),
+    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
+    max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
+    workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers."),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' or a Dask scheduler address."),
+    report: Optional[Path] = typer.Option(None, "--report", help="Write a self-contained HTML report here."),
+    figures: Optional[Path] = typer.Option(None, "--figures", help="Also write the report's figures as PNG here."),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table."),
+):
+    """Fit a family, validate every route leave-one-out, and write the model file."""
+    from . import modelfile
+    from .fitjob import FitOptions, fit_family, format_fit_summary, summary_in_unit
+    from .io.tables import read_table
+
+    spec = structure_spec(substituents, molecule, core, reaction, template)
+    extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
+    engine = make_engine(tiers, cache_dir, workers, scheduler) if spec.mode != "none" else None
+    if engine is not None and not engine.tiers and not extra:
+        raise ValueError("--tiers none leaves no descriptors: add --extra-descriptors, or drop the structure "
+                         "options for a curve-only model")
+    if engine is None and tiers != "2d,table":
+        raise ValueError("--tiers needs a structure input (--substituents, --molecule, --reaction or --template)")
+    opts = FitOptions(energy_column=energy, barrier_column=barrier, learner=learner, relation=relation, units=units,
+                      energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
+                      n_shuffles=shuffles, max_atoms=max_atoms)
+    df = read_table(data)
+    model, summary = fit_family(df, str(data), spec, engine, opts)
+    modelfile.save(model.as_dict(), output)
+    shown = summary_in_unit(summary, model.units)
+    if report is not None or figures is not None:
+        from .report.html import write_fit_report
+
+        write_fit_report(model, summary, report, figures)
+    if as_json:
+        echo_warnings(summary["warnings"])
+        print_json(json_safe(shown))
+    else:
+        typer.echo(format_fit_summary(shown))
+        typer.echo(f"model written to {output}" + (f"; report {report}" if report else ""))
+
+
 def main() -> None:  # console-script entry point
     app()
 

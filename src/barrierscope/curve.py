@@ -174,3 +174,42 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
     def derived(self) -> dict[str, float]:
         check_is_fitted(self, "params_")
         return self.relation_.derived(self.params_)
+
+    # -- persistence ----------------------------------------------------------------------
+    def as_dict(self) -> dict:
+        """Everything needed to predict, as plain numbers (kcal/mol)."""
+        check_is_fitted(self, "params_")
+        out = {
+            "relation": self.relation_.name, "requested_relation": self.relation, "loss": self.loss,
+            "params": self.params_dict(), "theta": [float(v) for v in self.params_],
+            "cov": np.asarray(self.cov_, dtype=float).tolist(), "sigma": float(self.sigma_),
+            "dof": int(self.dof_), "n_train": int(self.n_train_), "energy_range": list(self.energy_range_),
+            "correlation": np.asarray(self.correlation_, dtype=float).tolist(),
+            "ci95": {k: [float(a), float(b)] for k, (a, b) in self.ci_.items()},
+            "ci95_open": {k: [bool(a), bool(b)] for k, (a, b) in self.ci_open_.items()},
+            "derived": self.derived(), "intervals": self.intervals,
+        }
+        if self.identifiability_ is not None:
+            out["identifiability"] = self.identifiability_.as_dict()
+        if self.relation_.name == "asymptotic":
+            out["reverse"] = self.reverse_params()
+        return out
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "CurveRegressor":
+        self = cls(relation=d.get("requested_relation", d["relation"]), loss=d.get("loss", "linear"),
+                   intervals=d.get("intervals", "none"))
+        self.relation_ = get_relation(d["relation"])
+        self.params_ = np.asarray(d["theta"], dtype=float)
+        self.cov_ = np.asarray(d["cov"], dtype=float)
+        self.sigma_ = float(d["sigma"])
+        self.dof_ = int(d["dof"])
+        self.n_train_ = int(d["n_train"])
+        self.energy_range_ = tuple(d["energy_range"])
+        self.correlation_ = np.asarray(d["correlation"], dtype=float)
+        self.ci_ = {k: tuple(v) for k, v in d.get("ci95", {}).items()}
+        self.ci_open_ = {k: tuple(v) for k, v in d.get("ci95_open", {}).items()}
+        self.identifiability_ = None
+        self.identifiability_dict_ = d.get("identifiability")
+        self.comparison_ = None
+        return self

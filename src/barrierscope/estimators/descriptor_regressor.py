@@ -1,0 +1,89 @@
+"""Descriptors → one target (reaction energy, barrier, or a residual) with one learner.
+
+The same class serves the energy stage (descriptors → reaction energy), the black-box
+baseline (descriptors → barrier, same learner, same tuning) and the hybrid's correction.
+Scaling, imputation and hyper-parameter choice all happen inside :meth:`fit`, so the
+estimator can be refitted inside any cross-validation fold without leakage.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from sklearn.base import BaseEstimator, RegressorMixin
+from sklearn.utils.validation import check_is_fitted
+
+from .learners import check_learner, fit_state, loo_residuals, predict_state
+from .preprocess import Preprocessor
+
+
+def _matrix(X, columns):
+    if hasattr(X, "columns"):
+        return X.to_numpy(dtype=float), list(map(str, X.columns))
+    A = np.asarray(X, dtype=float)
+    return A, list(columns) if columns is not None else [f"x{j}" for j in range(A.shape[1])]
+
+
+class DescriptorRegressor(RegressorMixin, BaseEstimator):
+    """Parameters
+    ----------
+    learner : {"ridge", "pls", "gp", "forest"}
+    random_state : int
+
+    Attributes
+    ----------
+    preprocessor_ : Preprocessor
+    state_ : dict — the learner's fitted numbers
+    n_train_ : int
+    """
+
+    def __init__(self, learner: str = "ridge", random_state: int = 0):
+        self.learner = learner
+        self.random_state = random_state
+
+    def fit(self, X, y, columns=None):
+        A, cols = _matrix(X, columns)
+        y = np.asarray(y, dtype=float).ravel()
+        if A.shape[0] != y.size:
+            raise ValueError(f"X has {A.shape[0]} rows but y has {y.size}")
+        if not np.all(np.isfinite(y)):
+            raise ValueError("the target has non-finite values")
+        self.preprocessor_ = Preprocessor.fit(A, cols)
+        Z = self.preprocessor_.transform(A)
+        self.state_ = fit_state(check_learner(self.learner), Z, y, self.random_state)
+        self.n_train_ = int(y.size)
+        return self
+
+    def transform(self, X) -> np.ndarray:
+        """The standardised descriptors the learner sees."""
+        check_is_fitted(self, "state_")
+        A, _ = _matrix(X, self.preprocessor_.columns)
+        return self.preprocessor_.transform(A)
+
+    def predict(self, X, return_std: bool = False):
+        mean, std = predict_state(self.state_, self.transform(X))
+        return (mean, std) if return_std else mean
+
+    def loo_predictions(self, y) -> np.ndarray | None:
+        """Exact leave-one-out predictions of the training targets, when available in closed
+        form (ridge with its penalty held at the chosen value), else None."""
+        r = loo_residuals(self.state_)
+        return None if r is None else np.asarray(y, dtype=float) - r
+
+    def as_dict(self) -> dict:
+        check_is_fitted(self, "state_")
+        state = {k: v for k, v in self.state_.items() if not k.startswith("_") and k != "loo_residuals"}
+        return {"learner": self.learner, "random_state": self.random_state, "n_train": self.n_train_,
+                "preprocess": self.preprocessor_.as_dict(), "state": state}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "DescriptorRegressor":
+        self = cls(learner=d["learner"], random_state=d.get("random_state", 0))
+        self.preprocessor_ = Preprocessor.from_dict(d["preprocess"])
+        self.state_ = dict(d["state"])
+        self.n_train_ = int(d["n_train"])
+        return self
+
+
+#: The energy stage and the black-box baseline are the same estimator on different targets.
+EnergyRegressor = DescriptorRegressor
+DirectRegressor = DescriptorRegressor

@@ -1,0 +1,37 @@
+"""Invented families for tests (labelled as invented: no chemistry was computed).
+
+Reaction energies are a known linear map of tabulated Hammett σp (Hansch, Leo, Taft 1991, as
+typed in the table tier) and Crippen MR, plus noise; barriers lie on a known asymptotic
+curve plus noise.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+TRUE_CURVE = (6.0, -5.0, 5.0)  # floor, midpoint, width (kcal/mol), invented
+
+
+def substituent_family(n: int = 30, seed: int = 0, path=None) -> pd.DataFrame:
+    from barrierscope.descriptors.hammett import ENTRIES
+    from barrierscope.descriptors.topological import substituent_descriptors
+    from barrierscope.relations import get_relation
+    from barrierscope.structures.substituent import substituent_key
+
+    rng = np.random.default_rng(seed)
+    groups = [e for e in ENTRIES if e.confidence == "high"]
+    rows, seen = [], set()
+    while len(rows) < n:
+        a, b = groups[rng.integers(len(groups))], groups[rng.integers(len(groups))]
+        if (a.name, b.name) in seen:
+            continue
+        seen.add((a.name, b.name))
+        mr = substituent_descriptors(substituent_key(b.smiles))["mr"]
+        de = -12.0 + 25.0 * a.sigma_p + 0.4 * mr + rng.normal(0, 1.5)
+        dg = get_relation("asymptotic").barrier(np.array([de]), np.array(TRUE_CURVE))[0] + rng.normal(0, 1.0)
+        rows.append((f"m{len(rows) + 1}", a.smiles, b.smiles, round(de, 3), round(dg, 3)))
+    df = pd.DataFrame(rows, columns=["id", "R1", "R2", "dE", "dG"])
+    if path is not None:
+        df.to_csv(path, index=False)
+    return df

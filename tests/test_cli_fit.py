@@ -1,0 +1,82 @@
+"""The `barrierscope fit` command: JSON contract, model file, curve-only models, messages."""
+
+import json
+
+import pytest
+from typer.testing import CliRunner
+
+from barrierscope.cli import app
+from families import substituent_family
+
+runner = CliRunner()
+
+
+@pytest.fixture(scope="module")
+def family_csv(tmp_path_factory):
+    path = tmp_path_factory.mktemp("fit") / "fam.csv"
+    substituent_family(26, seed=2, path=path)
+    return path
+
+
+def test_fit_json_contract(family_csv, tmp_path):
+    out = tmp_path / "model.json"
+    r = runner.invoke(app, ["fit", str(family_csv), "--substituents", "R1,R2", "--energy", "dE", "--barrier", "dG",
+                            "-o", str(out), "--json", "--shuffles", "2", "--cache-dir", str(tmp_path / "c")])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.stdout)
+    assert s["n"] == 26
+    assert set(s["energy_stage"]) >= {"mae", "rmse", "r2"}
+    assert set(s["routes"]) == {"two_stage", "hybrid", "direct", "curve_on_true_energy"}
+    assert set(s["comparison"]) == {"two_stage_vs_direct", "hybrid_vs_direct"}
+    assert "mae_mean" in s["y_randomization"]
+    assert s["winner"] in ("two_stage", "hybrid", "direct", "tie")
+    model = json.loads(out.read_text())
+    assert model["schema_version"] == 1 and model["content"]["units"] == "kcal/mol"
+    assert model["content"]["tiers"] == ["2d", "table"] and model["content"]["features"]
+
+
+def test_curve_only_model(tmp_path):
+    from conftest import ROOT
+
+    out = tmp_path / "curve.json"
+    r = runner.invoke(app, ["fit", str(ROOT / "datasets" / "examples" / "curve_family.csv"), "--energy", "dG_r",
+                            "--barrier", "dG_act", "-o", str(out), "--json"])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.stdout)
+    assert s["energy_stage"] is None and s["routes"]["direct"] is None
+    assert s["winner"] == "curve_on_true_energy" and s["routes"]["curve_on_true_energy"]["mae"] < 1.5
+
+
+def test_extra_descriptors_only(family_csv, tmp_path):
+    import pandas as pd
+
+    df = pd.read_csv(family_csv)
+    df["my_sigma"] = df["dE"] / 25.0 + 0.01 * (df.index % 3)  # a user's own descriptor (invented)
+    path = tmp_path / "fam2.csv"
+    df.to_csv(path, index=False)
+    r = runner.invoke(app, ["fit", str(path), "--substituents", "R1,R2", "--tiers", "none", "--extra-descriptors",
+                            "my_sigma", "--energy", "dE", "--barrier", "dG", "-o", str(tmp_path / "m.json"),
+                            "--json", "--shuffles", "0"])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.stdout)
+    assert s["features"] == ["my_sigma"] and s["energy_stage"]["r2"] > 0.95
+
+
+@pytest.mark.parametrize("args,needle", [
+    (["--learner", "svm"], "valid choices: ridge, pls, gp, forest"),
+    (["--relation", "cubic"], "valid choices"),
+    (["--tiers", "2d,psychic"], "valid choices"),
+    (["--units", "calories"], "valid choices"),
+])
+def test_bad_options_list_the_choices(family_csv, tmp_path, args, needle):
+    r = runner.invoke(app, ["fit", str(family_csv), "--substituents", "R1,R2", "--energy", "dE", "--barrier", "dG",
+                            "-o", str(tmp_path / "m.json"), *args])
+    assert r.exit_code == 2 and needle in r.stderr and "Traceback" not in r.output
+
+
+def test_too_few_members(tmp_path):
+    path = tmp_path / "tiny.csv"
+    path.write_text("id,R1,dE,dG\na,[*]C,-5,10\nb,[*]OC,-3,11\nc,[*]Cl,0,13\n")
+    r = runner.invoke(app, ["fit", str(path), "--substituents", "R1", "--energy", "dE", "--barrier", "dG",
+                            "-o", str(tmp_path / "m.json")])
+    assert r.exit_code == 2 and "needs at least" in r.stderr
