@@ -96,6 +96,9 @@ def json_safe(obj):
     return obj
 
 
+XTB_LEVEL_HELP = "GFN2-xTB level for reaction energies: sp (single points on force-field geometries) or opt."
+SOLVENT_HELP = "Implicit solvent (ALPB) for GFN2-xTB reaction energies, e.g. water; default none (gas)."
+MULT_HELP = "Column of spin multiplicities per species, laid out like the reaction ('2.1>>2')."
 UNITS_HELP = "Energy unit of the input columns: kcal/mol, kJ/mol, eV or hartree."
 KIND_HELP = "What the energies are: free-energy (gives rates), enthalpy or electronic."
 
@@ -150,29 +153,38 @@ STRUCTURE_HELP = {
 }
 
 
-def structure_spec(substituents, molecule, core, reaction=None, template=None):
+def structure_spec(substituents, molecule, core, reaction=None, template=None, multiplicity=None):
     from .structures.core import CoreError
     from .structures.spec import make_spec
 
     try:
         return make_spec(substituents=substituents, molecule=molecule, core=core, reaction=reaction,
-                         template=template)
+                         template=template, multiplicity=multiplicity)
     except CoreError as exc:
         raise ValueError(str(exc)) from None
 
 
-def make_engine(tiers: str, cache_dir: Optional[Path], workers: int = 1, scheduler: Optional[str] = None):
+def xtb_settings(level: str = "sp", solvent: Optional[str] = None):
+    from .semiempirical.species import XtbSettings
+
+    solvent = None if solvent is None or solvent.strip().lower() in ("", "none", "gas") else solvent.strip()
+    return XtbSettings(level=level, solvent=solvent)
+
+
+def make_engine(tiers: str, cache_dir: Optional[Path], workers: int = 1, scheduler: Optional[str] = None,
+                xtb_level: str = "sp", solvent: Optional[str] = None):
     from .descriptors.cache import DescriptorCache
     from .descriptors.tiers import DescriptorEngine, parse_tiers
 
     names = parse_tiers(tiers)
+    settings = xtb_settings(xtb_level, solvent)
     cache = DescriptorCache(cache_dir if cache_dir is not None else "default")
     executor = None
     if workers > 1 or scheduler:
         from .engine import make_executor
 
         executor = make_executor(workers=workers, scheduler=scheduler)
-    return DescriptorEngine(names, cache, executor=executor)
+    return DescriptorEngine(names, cache, executor=executor, xtb_settings=settings)
 
 
 @app.command()
@@ -191,17 +203,20 @@ def descriptors(
     max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
     workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers (xtb, steric3d)."),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' or a Dask scheduler address."),
+    xtb_level: str = typer.Option("sp", "--xtb-level", help=XTB_LEVEL_HELP),
+    solvent: Optional[str] = typer.Option(None, "--solvent", help=SOLVENT_HELP),
+    multiplicity: Optional[str] = typer.Option(None, "--multiplicity", help=MULT_HELP),
     quiet: bool = typer.Option(False, "--quiet", help="No summary on stderr."),
 ):
     """Compute descriptors: one output row per input row, with a status column."""
     from .descriptors.run import describe_file
     from .io.tables import write_table
 
-    spec = structure_spec(substituents, molecule, core, reaction, template)
+    spec = structure_spec(substituents, molecule, core, reaction, template, multiplicity)
     if spec.mode == "none":
         raise ValueError("say where the structures are: --substituents, --molecule (with or without --core), "
                          "--reaction, or --template with --substituents")
-    engine = make_engine(tiers, cache_dir, workers, scheduler)
+    engine = make_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent)
     table = describe_file(data, spec, engine, id_column=id_column, max_atoms=max_atoms)
     write_table(table, output)
     if not quiet:
@@ -242,6 +257,9 @@ def fit(
     max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
     workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers."),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' or a Dask scheduler address."),
+    xtb_level: str = typer.Option("sp", "--xtb-level", help=XTB_LEVEL_HELP),
+    solvent: Optional[str] = typer.Option(None, "--solvent", help=SOLVENT_HELP),
+    multiplicity: Optional[str] = typer.Option(None, "--multiplicity", help=MULT_HELP),
     report: Optional[Path] = typer.Option(None, "--report", help="Write a self-contained HTML report here."),
     figures: Optional[Path] = typer.Option(None, "--figures", help="Also write the report's figures as PNG here."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table."),
@@ -251,9 +269,9 @@ def fit(
     from .fitjob import FitOptions, fit_family, format_fit_summary, summary_in_unit
     from .io.tables import read_table
 
-    spec = structure_spec(substituents, molecule, core, reaction, template)
+    spec = structure_spec(substituents, molecule, core, reaction, template, multiplicity)
     extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
-    engine = make_engine(tiers, cache_dir, workers, scheduler) if spec.mode != "none" else None
+    engine = make_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent) if spec.mode != "none" else None
     if engine is not None and not engine.tiers and not extra:
         raise ValueError("--tiers none leaves no descriptors: add --extra-descriptors, or drop the structure "
                          "options for a curve-only model")
@@ -276,6 +294,51 @@ def fit(
     else:
         typer.echo(format_fit_summary(shown))
         typer.echo(f"model written to {output}" + (f"; report {report}" if report else ""))
+
+
+@app.command()
+@guarded
+def screen(
+    model: Path = typer.Argument(..., help="Model file written by `barrierscope fit`."),
+    library: Path = typer.Argument(..., help="Library to rank (CSV, TSV, SMILES file, SDF, Parquet)."),
+    output: Path = typer.Option(..., "-o", "--output", help="Results (.csv, .tsv or .parquet)."),
+    temperature: float = typer.Option(298.15, "--temperature", help="Temperature for rates and half-lives, K."),
+    transmission: float = typer.Option(1.0, "--transmission", help="Transmission coefficient κ of the Eyring equation."),
+    energy: Optional[str] = typer.Option(None, "--energy", help="Library column of computed reaction energies "
+                                                                  "(used instead of predicting them)."),
+    energy_units: Optional[str] = typer.Option(None, "--energy-units", help="Unit of --energy (default: the model's)."),
+    id_column: Optional[str] = typer.Option(None, "--id", help="Column with row ids (default: 'id' if present)."),
+    top: int = typer.Option(0, "--top", help="Print the K lowest-barrier rows in the summary."),
+    workers: int = typer.Option(1, "--workers", help="Local worker processes."),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' (a loopback Dask cluster) or the "
+                                                                        "address of a Dask scheduler."),
+    chunk_size: int = typer.Option(20000, "--chunk-size", help="Rows per chunk (a task on the cluster)."),
+    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
+    max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
+    quiet: bool = typer.Option(False, "--quiet", help="No progress bar and no summary."),
+):
+    """Rank a virtual library: barrier with its 90 % interval, α, rate, half-life, domain flags."""
+    from .engine import make_executor
+    from .screening import ScreenOptions, format_screen_summary, run_screen
+    from .units import normalize_unit
+
+    if chunk_size < 1:
+        raise ValueError("--chunk-size must be at least 1")
+    if temperature <= 0:
+        raise ValueError("--temperature must be positive (kelvin)")
+    opts = ScreenOptions(temperature=temperature, transmission=transmission, energy_column=energy,
+                         energy_units=normalize_unit(energy_units) if energy_units else None, id_column=id_column,
+                         cache_dir=str(cache_dir) if cache_dir is not None else "default", max_atoms=max_atoms)
+    executor = make_executor(workers=workers, scheduler=scheduler)
+    try:
+        summary = run_screen(model, library, output, opts, executor=executor, chunk_size=chunk_size, top=top,
+                             progress=not quiet)
+    finally:
+        executor.close()
+    if not quiet:
+        from .modelfile import load_model
+
+        typer.echo(format_screen_summary(summary, load_model(model).units, temperature), err=True)
 
 
 def main() -> None:  # console-script entry point

@@ -44,6 +44,9 @@ class ProcessExecutor:
     def map(self, fn: Callable, items: Iterable) -> Iterator:
         return self._pool.map(fn, items)
 
+    def submit(self, fn: Callable, item):
+        return self._pool.submit(fn, item)
+
     def close(self) -> None:
         self._pool.shutdown(wait=True, cancel_futures=True)
 
@@ -78,6 +81,9 @@ class DaskExecutor:
         # as results arrive, yield in submission order so outputs match a serial run
         for f in futures:
             yield f.result()
+
+    def submit(self, fn: Callable, item):
+        return self._client.submit(fn, item, pure=False, retries=self.retries)
 
     def close(self) -> None:
         self._client.close()

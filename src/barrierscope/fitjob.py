@@ -71,12 +71,17 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts
     if spec.mode != "none":
         from .descriptors.featurize import featurize
 
-        require_columns(df, list(spec.columns), source)
+        require_columns(df, list(spec.columns) + ([spec.multiplicity] if spec.multiplicity else []), source)
         block = featurize(df, spec, engine, max_atoms=opts.max_atoms)
         X = block.X
         rows = df[ROW].to_numpy()
         problems += [RowProblem(int(rows[i]), ids.iloc[i], block.status[i]) for i in np.flatnonzero(~block.ok)]
         keys = pd.Series(["|".join(str(block.units[p][i]) for p in block.units) for i in range(len(df))])
+        freq = block.extra.get("reactant_frequency")
+        if freq is not None:  # the order of reactants must mean the same at screening time
+            from dataclasses import replace
+
+            spec = replace(spec, reactant_frequency=tuple(freq.most_common(500)))
     if opts.extra_descriptors:
         extra, bad = _extra_matrix(df, opts.extra_descriptors, ids, source)
         problems += bad
@@ -84,7 +89,7 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts
     pairs = load_pairs(df, source, opts.energy_column, opts.barrier_column, unit, id_col=opts.id_column,
                        skip_bad_rows=opts.skip_bad_rows, keys=keys, extra_bad=problems)
     X = None if X is None else X.loc[pairs.keep].reset_index(drop=True)
-    return X, pairs
+    return X, pairs, spec
 
 
 def _check_sizes(n: int, has_x: bool, opts: FitOptions) -> None:
@@ -105,7 +110,7 @@ def fit_family(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts: Fit
         get_relation(opts.relation)
     kind = parse_energy_kind(opts.energy_kind).value
     unit = normalize_unit(opts.units)
-    X, pairs = prepare_members(df, source, spec, engine, opts)
+    X, pairs, spec = prepare_members(df, source, spec, engine, opts)
     has_x = X is not None and X.shape[1] > 0
     _check_sizes(pairs.n, has_x, opts)
     warnings = list(pairs.warnings)
@@ -184,8 +189,16 @@ def fit_family(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts: Fit
         validation={k: v for k, v in summary.items() if k not in ("curve", "loo", "caution")},
         primary_route=primary, level=opts.level, warnings=warnings,
         descriptor_versions=_versions(engine) if has_x else {},
+        xtb=_xtb_settings(engine) if has_x else {},
     )
     return model, summary
+
+
+def _xtb_settings(engine) -> dict:
+    if "xtb" not in getattr(engine, "tiers", ()):
+        return {}
+    st = engine.xtb_settings
+    return {"level": st.level, "solvent": st.solvent, "cache_version": st.cache_version()}
 
 
 def _versions(engine) -> dict:

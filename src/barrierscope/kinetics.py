@@ -10,6 +10,8 @@ kcal/mol and temperatures in kelvin; constants come from :mod:`scipy.constants`.
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 from scipy import constants as _c
 
@@ -64,13 +66,14 @@ def barrier_for_half_life(seconds, temperature: float = 298.15, transmission: fl
     return out if out.ndim else float(out)
 
 
+@lru_cache(maxsize=65536)  # libraries repeat half-lives (few distinct substituent combinations)
 def format_duration(seconds: float) -> str:
     """A half-life in the unit a chemist would say it in ("3.2 h", "41 s", "12 years")."""
     s = float(seconds)
     if not np.isfinite(s):
         return "inf" if s > 0 else "nan"
-    steps = [(1e-3, "µs", 1e-6), (1.0, "ms", 1e-3), (120.0, "s", 1.0), (7200.0, "min", 60.0),
-             (172800.0, "h", 3600.0), (2 * 365.25 * 86400, "days", 86400.0)]
+    steps = [(1e-9, "ps", 1e-12), (1e-6, "ns", 1e-9), (1e-3, "µs", 1e-6), (1.0, "ms", 1e-3), (120.0, "s", 1.0),
+             (7200.0, "min", 60.0), (172800.0, "h", 3600.0), (2 * 365.25 * 86400, "days", 86400.0)]
     for limit, unit, size in steps:
         if s < limit:
             return f"{s / size:.3g} {unit}"

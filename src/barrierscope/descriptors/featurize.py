@@ -119,15 +119,39 @@ class FeatureBlock:
     status: np.ndarray          # "ok" or the message
     error_kind: np.ndarray      # "" or a short kind ("unparseable", "core_unmatched", ...)
     notes: np.ndarray           # "" or semicolon-separated notes (missing descriptor values)
-    units: dict[str, np.ndarray]
+    units: dict[str, np.ndarray]  # position → canonical unit per row
+    extra: dict = field(default_factory=dict)  # reactions, reactant frequencies (reaction input)
 
     @property
     def ok(self) -> np.ndarray:
         return self.status == OK
 
 
-def feature_names(spec: InputSpec, engine: DescriptorEngine, kind: str) -> list[str]:
-    return [f"{p}_{c}" for p in spec.positions for c in engine.columns(kind)]
+#: The semi-empirical reaction energy column (kcal/mol): products minus reactants.
+REACTION_ENERGY_XTB = "reaction_energy_xtb"
+
+
+def _reaction_energies(reactions, engine: DescriptorEngine, errors, kinds) -> np.ndarray:
+    """GFN2-xTB reaction energy per row (kcal/mol); rows with a failed species get a status."""
+    species = [s for r in reactions if r is not None for s in (*r.reactants, *r.products)]
+    energies, failures = engine.species_energies(species)
+    out = np.full(len(reactions), np.nan)
+    for i, r in enumerate(reactions):
+        if r is None:
+            continue
+        total, bad = 0.0, None
+        for sign, group in ((-1.0, r.reactants), (1.0, r.products)):
+            for s in group:
+                key = f"{s.smiles}|{s.multiplicity}"
+                if key in failures:
+                    bad = bad or f"xtb reaction energy: {s.smiles}: {failures[key]}"
+                else:
+                    total += sign * energies[key]
+        if bad is None:
+            out[i] = total
+        elif errors[i] is None:
+            errors[i], kinds[i] = bad, "xtb"
+    return out
 
 
 def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
@@ -135,13 +159,16 @@ def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
     """Descriptors for every row of ``df``; see the module docstring."""
     res = resolution if resolution is not None else resolve_structures(df, spec, max_atoms)
     n = len(df)
-    cols = engine.columns(res.kind)
+    reactions = res.extra.get("reactions")
+    # With reaction SMILES the xtb tier gives the reaction energy, not per-species orbitals.
+    exclude = ("xtb",) if reactions is not None and res.kind == "molecule" else ()
+    cols = engine.columns(res.kind, exclude)
     errors = res.errors.copy()
     kinds = res.error_kinds.copy()
     blocks = {}
     notes_parts = []
     all_keys = [k for p in res.positions for k in res.keys[p] if k is not None]
-    table = engine.describe(all_keys, res.kind)
+    table = engine.describe(all_keys, res.kind, exclude)
     values = table.values
     for p in res.positions:
         keys = pd.Series(res.keys[p], dtype=object)
@@ -160,6 +187,8 @@ def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
             kinds[i] = "descriptor"
         unit_notes = np.array(["; ".join(table.notes.get(k, [])) for k in uniq] + [""], dtype=object)[codes]
         notes_parts.append((p, unit_notes))
+    if reactions is not None and "xtb" in engine.tiers:
+        blocks[REACTION_ENERGY_XTB] = _reaction_energies(reactions, engine, errors, kinds)
     X = pd.DataFrame(blocks, index=df.index)
     failed = pd.notna(errors)
     if failed.any():  # a row that failed carries no half-finished descriptors
@@ -170,5 +199,4 @@ def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
     status = np.where(pd.isna(errors), OK, errors).astype(object)
     kind_out = np.where(pd.isna(kinds), "", kinds).astype(object)
     units = {p: res.keys[p] for p in res.positions}
-    units.update(res.extra)
-    return FeatureBlock(X=X, status=status, error_kind=kind_out, notes=notes, units=units)
+    return FeatureBlock(X=X, status=status, error_kind=kind_out, notes=notes, units=units, extra=res.extra)

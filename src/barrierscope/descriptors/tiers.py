@@ -143,17 +143,63 @@ class DescriptorEngine:
     Dask client wrapper from :mod:`barrierscope.engine`; results are identical either way.
     """
 
-    def __init__(self, tiers=DEFAULT_TIERS, cache: DescriptorCache | None = None, executor=None):
+    def __init__(self, tiers=DEFAULT_TIERS, cache: DescriptorCache | None = None, executor=None,
+                 xtb_settings=None):
+        from ..semiempirical.species import XtbSettings
+
         self.tiers = tuple(tiers)
         self.cache = cache if cache is not None else DescriptorCache(None)
         self.executor = executor
+        #: Level and solvent of GFN2-xTB reaction energies (the xtb tier with reactions).
+        self.xtb_settings = xtb_settings if xtb_settings is not None else XtbSettings(level="sp", solvent=None)
         self._memo: dict[tuple[str, str, str], dict] = {}
         self._contexts: dict[tuple[str, str], object] = {}
         self.computed = 0
         self.hits = 0
 
-    def columns(self, kind: str) -> list[str]:
-        return [c for t in self.tiers for c in TIERS[t].columns(kind)]
+    def columns(self, kind: str, exclude=()) -> list[str]:
+        return [c for t in self.tiers if t not in exclude for c in TIERS[t].columns(kind)]
+
+    def species_energies(self, species) -> tuple[dict[str, float], dict[str, str]]:
+        """GFN2-xTB energies (kcal/mol) of distinct species, through the cache and the executor.
+
+        ``species`` are :class:`~barrierscope.structures.reaction.Species`; returns
+        (energy by species key, error by species key).
+        """
+        settings = self.xtb_settings
+        scope, version = "xtb:species", settings.cache_version()
+        unique = {f"{s.smiles}|{s.multiplicity}": s for s in species}
+        keys = list(unique)
+        found: dict[str, dict] = {}
+        todo = []
+        for k in keys:
+            hit = self._memo.get((scope, version, k))
+            if hit is not None:
+                found[k] = hit
+            else:
+                todo.append(k)
+        if todo:
+            stored = self.cache.get_many(scope, version, todo)
+            found.update(stored)
+            for k, v in stored.items():
+                self._memo[(scope, version, k)] = v
+            todo = [k for k in todo if k not in stored]
+        self.hits += len(keys) - len(todo)
+        if todo:
+            args = [(unique[k].smiles, unique[k].multiplicity, settings) for k in todo]
+            if self.executor is not None and len(todo) > 1:
+                results = list(self.executor.map(_species_payload, args))
+            else:
+                results = [_species_payload(a) for a in args]
+            fresh = dict(zip(todo, results))
+            self.computed += len(todo)
+            self.cache.put_many(scope, version, {k: v for k, v in fresh.items() if not v.get("transient")})
+            for k, v in fresh.items():
+                found[k] = v
+                self._memo[(scope, version, k)] = v
+        energies = {k: v["values"]["energy"] for k, v in found.items() if not v.get("error")}
+        errors = {k: v["error"] for k, v in found.items() if v.get("error")}
+        return energies, errors
 
     def _payloads(self, tier: Tier, kind: str, keys: list[str]) -> dict[str, dict]:
         scope = f"{tier.name}:{kind}"
@@ -204,14 +250,16 @@ class DescriptorEngine:
                              f"'barrierscope[{tier.extra}]'", "transient": True}
         return self._contexts[(tier.name, kind)]
 
-    def describe(self, keys, kind: str) -> UnitTable:
+    def describe(self, keys, kind: str, exclude=()) -> UnitTable:
         """Descriptors of every distinct key, for ``kind`` "substituent" or "molecule"."""
         keys = list(dict.fromkeys(keys))
-        columns = self.columns(kind)
+        columns = self.columns(kind, exclude)
         data = {k: {} for k in keys}
         errors: dict[str, str] = {}
         notes: dict[str, list[str]] = {}
         for name in self.tiers:
+            if name in exclude:
+                continue
             tier = TIERS[name]
             cols = tier.columns(kind)
             if not cols:
@@ -247,6 +295,22 @@ def _compute_payload(args) -> dict:
         return {"error": f"needs an optional package ({exc.name or exc}); pip install 'barrierscope[{extra}]'",
                 "transient": True}
     except Exception as exc:  # one bad unit must not stop a library; the row gets the message
+        text = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        return {"error": text[:300]}
+    return {"values": {k: float(v) for k, v in values.items()}}
+
+
+def _species_payload(args) -> dict:
+    """One species' GFN2-xTB energy: {"values": {"energy": kcal/mol}} or {"error": ...}."""
+    smiles, multiplicity, settings = args
+    try:
+        from ..semiempirical.species import species_energy
+
+        values = species_energy(smiles, settings, uhf=multiplicity - 1)
+    except ImportError as exc:
+        return {"error": f"needs an optional package ({exc.name or exc}); pip install 'barrierscope[xtb]'",
+                "transient": True}
+    except Exception as exc:  # a failed species gives its rows a status, never a crash
         text = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         return {"error": text[:300]}
     return {"values": {k: float(v) for k, v in values.items()}}

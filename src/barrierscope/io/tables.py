@@ -256,7 +256,7 @@ def _parquet_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame
     try:
         import pyarrow.parquet as pq
     except ImportError:  # pragma: no cover - depends on the install
-        raise InputError("reading Parquet needs pyarrow: pip install 'barrierscope[parquet]'") from None
+        raise InputError("reading Parquet needs pyarrow (pip install pyarrow)") from None
     try:
         pf = pq.ParquetFile(path)
     except Exception as exc:
@@ -360,7 +360,7 @@ def write_table(df: pd.DataFrame, path: str | os.PathLike) -> None:
             try:
                 df.to_parquet(tmp, index=False)
             except ImportError:  # pragma: no cover
-                raise InputError("writing Parquet needs pyarrow: pip install 'barrierscope[parquet]'") from None
+                raise InputError("writing Parquet needs pyarrow (pip install pyarrow)") from None
         elif fmt in ("csv", "tsv"):
             df.to_csv(tmp, index=False, sep="\t" if fmt == "tsv" else ",")
         else:

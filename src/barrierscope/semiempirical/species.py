@@ -1,6 +1,7 @@
 """The GFN2-xTB energy of one species: the lowest over a conformer ensemble.
 
-Levels: ``sp`` — single points on force-field geometries (seconds per species); ``opt`` —
+Levels: ``sp`` — single points on force-field geometries, MMFF94 and UFF both (seconds per
+species; see :func:`~.conformers.build_ensemble` on why both); ``opt`` —
 GFN2-xTB optimisation of the ``n_opt`` lowest conformers by single-point energy, then the
 lowest optimised energy. Implicit solvent (ALPB) when a solvent is named. Energies are
 electronic energies in kcal/mol (absolute, so only differences mean anything).
@@ -14,11 +15,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..units import factor_to_kcal
-from .conformers import build_ensemble
+from .conformers import build_ensemble, distance_bonds, graph_bonds
 from .gfn2 import XtbError, optimize_geometry, singlepoint
 
 LEVELS = ("sp", "opt")
-CODE_VERSION = "species-1"
+CODE_VERSION = "species-2"
 
 
 @dataclass(frozen=True)
@@ -42,7 +43,7 @@ class XtbSettings:
 def species_energy(smiles: str, settings: XtbSettings = XtbSettings(), uhf: int | None = None) -> dict:
     """{"energy": kcal/mol, "n_conformers": int, "force_field": str} for one species."""
     deadline = time.monotonic() + settings.time_limit
-    ens = build_ensemble(smiles, settings.n_conformers, seed=settings.seed)
+    ens = build_ensemble(smiles, settings.n_conformers, seed=settings.seed, both_force_fields=True)
     if uhf is None:
         from rdkit.Chem import Descriptors
 
@@ -58,8 +59,15 @@ def species_energy(smiles: str, settings: XtbSettings = XtbSettings(), uhf: int 
     best = float(energies[order[0]])
     if settings.level == "opt":
         best = np.inf
+        bonds = graph_bonds(ens.mol)
         for i in order[: settings.n_opt]:
-            e, _ = optimize_geometry(ens.numbers, ens.conformers[i].coordinates, ens.charge, uhf,
-                                     settings.solvent, deadline=deadline)
+            e, xyz = optimize_geometry(ens.numbers, ens.conformers[i].coordinates, ens.charge, uhf,
+                                       settings.solvent, deadline=deadline)
+            # An optimisation that makes or breaks a bond has found another molecule.
+            if distance_bonds(ens.numbers, xyz) != bonds:
+                continue
             best = min(best, e)
+        if not np.isfinite(best):
+            raise XtbError("every GFN2-xTB optimisation changed the bonding (the species rearranged); "
+                           "use --xtb-level sp or check the structure", "rearranged")
     return {"energy": best * hartree, "n_conformers": float(len(ens.conformers))}

@@ -24,6 +24,9 @@ class InputSpec:
     core: str | None = None
     template: str | None = None
     positions: tuple[str, ...] = field(default=())
+    multiplicity: str | None = None   # reaction mode: column of spin multiplicities ("1.2>>2")
+    #: reaction mode: how often each reactant occurred in training (fixes the reactant order)
+    reactant_frequency: tuple[tuple[str, int], ...] = ()
 
     def __post_init__(self):
         if self.mode not in MODES:
@@ -31,16 +34,20 @@ class InputSpec:
 
     def as_dict(self) -> dict:
         return {"mode": self.mode, "columns": list(self.columns), "core": self.core,
-                "template": self.template, "positions": list(self.positions)}
+                "template": self.template, "positions": list(self.positions), "multiplicity": self.multiplicity,
+                "reactant_frequency": [list(p) for p in self.reactant_frequency]}
 
     @classmethod
     def from_dict(cls, d: dict) -> "InputSpec":
         return cls(mode=d["mode"], columns=tuple(d.get("columns") or ()), core=d.get("core"),
-                   template=d.get("template"), positions=tuple(d.get("positions") or ()))
+                   template=d.get("template"), positions=tuple(d.get("positions") or ()),
+                   multiplicity=d.get("multiplicity"),
+                   reactant_frequency=tuple((str(a), int(b)) for a, b in d.get("reactant_frequency") or ()))
 
 
 def make_spec(substituents: str | None = None, molecule: str | None = None, core: str | None = None,
-              reaction: str | None = None, template: str | None = None) -> InputSpec:
+              reaction: str | None = None, template: str | None = None,
+              multiplicity: str | None = None) -> InputSpec:
     """The spec from command-line options; the error says which combinations are allowed."""
     subs = tuple(c.strip() for c in substituents.split(",") if c.strip()) if substituents else ()
     given = [n for n, v in (("--substituents", subs), ("--molecule", molecule), ("--reaction", reaction)) if v]
@@ -52,7 +59,9 @@ def make_spec(substituents: str | None = None, molecule: str | None = None, core
         from .reaction import ReactionTemplate
 
         t = ReactionTemplate(template)
-        return InputSpec("template", subs, template=template, positions=t.species_names)
+        if max(t.numbers) > len(subs):
+            raise ValueError(f"the template uses [*:{max(t.numbers)}] but --substituents names {len(subs)} column(s)")
+        return InputSpec("template", subs, template=template, positions=subs)
     if len(given) > 1:
         raise ValueError(f"give one structure input, not {' and '.join(given)}")
     if core and not molecule:
@@ -67,6 +76,9 @@ def make_spec(substituents: str | None = None, molecule: str | None = None, core
         return InputSpec("core", (molecule,), core=core, positions=tuple(CoreDecomposer(core).positions))
     if molecule:
         return InputSpec("molecule", (molecule,), positions=(molecule,))
+    if multiplicity and not reaction:
+        raise ValueError("--multiplicity goes with --reaction")
     if reaction:
-        return InputSpec("reaction", (reaction,), positions=("reactant1", "reactant2", "product"))
+        return InputSpec("reaction", (reaction,), positions=("reactant1", "reactant2", "product"),
+                         multiplicity=multiplicity)
     return InputSpec("none")

@@ -1,0 +1,122 @@
+"""Screening: every row accounted for, identical results wherever the work runs."""
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from barrierscope import modelfile
+from barrierscope.descriptors.tiers import DescriptorEngine
+from barrierscope.engine import DaskExecutor, ProcessExecutor, SerialExecutor
+from barrierscope.fitjob import FitOptions, fit_family
+from barrierscope.io.tables import read_table
+from barrierscope.screening import ScreenOptions, run_screen
+from barrierscope.structures.spec import make_spec
+from families import substituent_family
+
+
+@pytest.fixture(scope="module")
+def model_path(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("screen")
+    substituent_family(24, seed=3, path=folder / "fam.csv")
+    model, _ = fit_family(read_table(folder / "fam.csv"), "fam.csv", make_spec(substituents="R1,R2"),
+                          DescriptorEngine(("2d", "table")), FitOptions("dE", "dG", n_shuffles=0))
+    path = folder / "model.json"
+    modelfile.save(model.as_dict(), path)
+    return path
+
+
+@pytest.fixture(scope="module")
+def library(tmp_path_factory):
+    from barrierscope.descriptors.hammett import ENTRIES
+
+    rng = np.random.default_rng(9)
+    subs = [e.smiles for e in ENTRIES]
+    df = pd.DataFrame({"id": [f"L{i}" for i in range(600)],
+                       "R1": [subs[k] for k in rng.integers(0, len(subs), 600)],
+                       "R2": [subs[k] for k in rng.integers(0, len(subs), 600)]})
+    df.loc[3, "R1"] = "c1ccc(("            # unparseable
+    df.loc[10, "R2"] = ""                  # empty cell
+    df.loc[20, "R1"] = "CC"                # no attachment atom
+    df.loc[30, "R2"] = "[*]C[*]"           # two attachment atoms
+    path = tmp_path_factory.mktemp("lib") / "lib.csv"
+    df.to_csv(path, index=False)
+    return path
+
+
+def test_every_row_once_with_a_status(model_path, library, tmp_path):
+    out = tmp_path / "out.csv"
+    s = run_screen(model_path, library, out, ScreenOptions(cache_dir=None), chunk_size=128, progress=False)
+    res = pd.read_csv(out, keep_default_na=False)
+    assert len(res) == 600 and s.rows == 600 and list(res["row"]) == list(range(1, 601))
+    bad = res["status"] != "ok"
+    assert list(res.index[bad]) == [3, 10, 20, 30]
+    assert all(len(m) > 10 for m in res.loc[bad, "status"])
+    assert (res.loc[bad, "rank"] == "").all()
+    ranks = res.loc[~bad, "rank"].astype(int)
+    assert sorted(ranks) == list(range(1, 597))
+    b = res.loc[~bad, "barrier_kcal_mol"].astype(float)
+    assert (np.diff(b.to_numpy()[np.argsort(ranks.to_numpy())]) >= 0).all()
+    assert s.errors == {"unparseable": 1, "empty": 1, "attachment": 2}
+
+
+def test_identical_wherever_it_runs(model_path, library, tmp_path):
+    outputs = {}
+    for name, make in (("serial", SerialExecutor), ("processes", lambda: ProcessExecutor(2)),
+                       ("dask", lambda: DaskExecutor("local", 2))):
+        executor = make()
+        try:
+            out = tmp_path / f"{name}.csv"
+            run_screen(model_path, library, out, ScreenOptions(cache_dir=str(tmp_path / "cache")), executor=executor,
+                       chunk_size=100, progress=False)
+            outputs[name] = out.read_bytes()
+        finally:
+            executor.close()
+    assert outputs["serial"] == outputs["processes"] == outputs["dask"]
+
+
+def test_parquet_and_csv_hold_the_same_values(model_path, library, tmp_path):
+    a, b = tmp_path / "o.csv", tmp_path / "o.parquet"
+    for out in (a, b):
+        run_screen(model_path, library, out, ScreenOptions(cache_dir=None), chunk_size=250, progress=False)
+    ca, pb = pd.read_csv(a), pd.read_parquet(b)
+    assert list(ca.columns) == list(pb.columns) and len(ca) == len(pb)
+    num = ["rank", "barrier_kcal_mol", "barrier_low90_kcal_mol", "leffler_alpha", "half_life_s", "ad_distance"]
+    pd.testing.assert_frame_equal(ca[num], pb[num], check_dtype=False)
+    assert list(ca["status"]) == list(pb["status"])
+
+
+def test_given_energies_take_the_curve_route(model_path, library, tmp_path):
+    df = pd.read_csv(library)
+    df["dE_computed"] = np.where(np.arange(len(df)) % 2 == 0, -10.0, np.nan)
+    lib = tmp_path / "lib_e.csv"
+    df.to_csv(lib, index=False)
+    out = tmp_path / "o.csv"
+    run_screen(model_path, lib, out, ScreenOptions(cache_dir=None, energy_column="dE_computed"), progress=False)
+    res = pd.read_csv(out, keep_default_na=False)
+    ok = res["status"] == "ok"
+    even = (res.index % 2 == 0) & ok
+    assert (res.loc[even, "reaction_energy_source"] == "given").all()
+    assert (res.loc[even, "route"] == "curve_on_given_energy").all()
+    assert np.allclose(res.loc[even, "reaction_energy_kcal_mol"].astype(float), -10.0)
+    assert np.allclose(res.loc[even, "reaction_energy_sd_kcal_mol"].astype(float), 0.0)
+    assert (res.loc[(res.index % 2 == 1) & ok, "reaction_energy_source"] == "predicted").all()
+
+
+def test_no_rates_from_electronic_energies(tmp_path):
+    from barrierscope.cli import app
+    from typer.testing import CliRunner
+    from conftest import ROOT
+
+    runner = CliRunner()
+    model = tmp_path / "m.json"
+    r = runner.invoke(app, ["fit", str(ROOT / "datasets/examples/curve_family.csv"), "--energy", "dG_r",
+                            "--barrier", "dG_act", "--kind", "electronic", "-o", str(model)])
+    assert r.exit_code == 0, r.output
+    lib = tmp_path / "lib.csv"
+    pd.DataFrame({"id": ["a", "b"], "dG_r": [-10.0, 5.0]}).to_csv(lib, index=False)
+    out = tmp_path / "o.csv"
+    r = runner.invoke(app, ["screen", str(model), str(lib), "-o", str(out)])
+    assert r.exit_code == 0, r.output
+    assert "only a Gibbs free-energy barrier gives a rate" in r.stderr
+    res = pd.read_csv(out)
+    assert res["rate_constant_per_s"].isna().all() and res["barrier_kcal_mol"].notna().all()
