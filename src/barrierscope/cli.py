@@ -287,7 +287,7 @@ def fit(
     if report is not None or figures is not None:
         from .report.html import write_fit_report
 
-        write_fit_report(model, summary, report, figures)
+        write_fit_report(model, summary, report, figures, source=str(data))
     if as_json:
         echo_warnings(summary["warnings"])
         print_json(json_safe(shown))
@@ -339,6 +339,45 @@ def screen(
         from .modelfile import load_model
 
         typer.echo(format_screen_summary(summary, load_model(model).units, temperature), err=True)
+
+
+@app.command()
+@guarded
+def suggest(
+    model: Path = typer.Argument(..., help="Model file written by `barrierscope fit`."),
+    candidates: Path = typer.Argument(..., help="Candidate members (same structure columns as the model)."),
+    k: int = typer.Option(..., "-k", help="How many members to suggest."),
+    goal: str = typer.Option("parameters", "--goal", help="parameters (pin the curve) or predictions "
+                                                          "(sharpen the pool's predictions)."),
+    energy: Optional[str] = typer.Option(None, "--energy", help="Candidate column of computed reaction energies."),
+    energy_units: Optional[str] = typer.Option(None, "--energy-units", help="Unit of --energy (default: the model's)."),
+    id_column: Optional[str] = typer.Option(None, "--id", help="Column with candidate ids."),
+    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON object with the picks."),
+):
+    """Suggest which candidates to compute next, and why."""
+    from .suggest import format_suggestions, suggest_file
+    from .units import normalize_unit
+
+    result = suggest_file(model, candidates, k, goal, energy, normalize_unit(energy_units) if energy_units else None,
+                          id_column, str(cache_dir) if cache_dir is not None else "default")
+    if as_json:
+        print_json(json_safe(result))
+    else:
+        typer.echo(format_suggestions(result))
+
+
+@app.command()
+@guarded
+def demo(
+    out: Path = typer.Option(Path("barrierscope-demo"), "--out", help="Folder for the demo's outputs."),
+    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
+):
+    """Run the whole job on the bundled demo family (invented data): fit, report, screen, advice."""
+    from .demo.run import format_demo, run_demo
+
+    result = run_demo(out, str(cache_dir) if cache_dir is not None else "default")
+    typer.echo(format_demo(result))
 
 
 def main() -> None:  # console-script entry point

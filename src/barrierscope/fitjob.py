@@ -136,6 +136,13 @@ def fit_family(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts: Fit
             warnings.append("missing descriptor values imputed with the training median: " +
                             ", ".join(f"{k} ({v} member(s))" for k, v in pre.imputed.items()))
         Z = two_stage.energy_.transform(X)
+        from .estimators.importance import permutation_importance
+
+        imp = permutation_importance(two_stage.energy_, X, energy, random_state=opts.random_state)
+        top = np.argsort(imp)[::-1][:20]
+        importance = {str(X.columns[j]): float(imp[j]) for j in top}
+    else:
+        importance = {}
     domain = ApplicabilityDomain().fit(Z, energy)
 
     # -- validation ---------------------------------------------------------------------
@@ -148,6 +155,7 @@ def fit_family(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts: Fit
                      "relation": curve.relation_.name, "requested_relation": opts.relation,
                      "features": list(X.columns) if has_x else [], "routes": routes}
     summary["energy_stage"] = metrics(energy, loo.energy) if has_x else None
+    summary["energy_stage_importance"] = importance
     comparison = {}
     if has_x:
         base = np.abs(loo.pred["direct"] - barrier)

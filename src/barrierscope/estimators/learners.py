@@ -7,9 +7,10 @@ Inputs are already imputed and standardised (see :mod:`.preprocess`).
 
 - ``ridge`` (default): ridge regression, penalty chosen by exact leave-one-out on an SVD
   (D. M. Allen, Technometrics 1974, 16, 125; G. H. Golub, M. Heath, G. Wahba,
-  Technometrics 1979, 21, 215); predictive σ² = s²(1 + h(x)) with s² the residual variance
-  on the effective degrees of freedom (T. Hastie, R. Tibshirani, J. Friedman, *The Elements
-  of Statistical Learning*, 2nd ed., 2009, §3.4.1 and §7.6).
+  Technometrics 1979, 21, 215); predictive σ² = s²(1 + h(x)) with h the leverage (T. Hastie,
+  R. Tibshirani, J. Friedman, *The Elements of Statistical Learning*, 2nd ed., 2009, §3.4.1)
+  and s² scaled so that the training members' predictive variance equals their mean
+  squared leave-one-out error.
 - ``pls``: partial least squares (S. Wold, M. Sjöström, L. Eriksson, Chemom. Intell. Lab.
   Syst. 2001, 58, 109), components chosen by 5-fold cross-validation; σ from that CV.
 - ``gp``: Gaussian process with a constant × RBF + white-noise kernel, hyper-parameters by
@@ -65,9 +66,11 @@ def _ridge_fit(X: np.ndarray, y: np.ndarray) -> dict:
             best = (mse, alpha, d, fitted, loo)
     mse, alpha, d, fitted, loo = best
     coef = Vt.T @ (s / (s ** 2 + alpha) * Uy)
-    resid = yc - fitted
-    dof = max(n - 1.0 - float(d.sum()), 1.0)
-    s2 = float(resid @ resid / dof)
+    # Noise scale from the leave-one-out errors, so that σ(1 + h) matches them at the training
+    # members: the in-sample residual variance on effective degrees of freedom is unstable when
+    # the penalty is small and descriptors are many.
+    h_train = (U ** 2) @ d + 1.0 / n
+    s2 = float(mse / (1.0 + np.mean(h_train)))
     # h(x) = 1/n + Σ_j (x·v_j)² s_j² / (s_j² + α)²: variance of the fitted value in units of s².
     shrink = s / (s ** 2 + alpha)
     return {"kind": "ridge", "coef": coef.tolist(), "intercept": y_mean, "x_mean": x_mean.tolist(),

@@ -14,6 +14,12 @@ import tempfile
 from pathlib import Path
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 @contextlib.contextmanager
 def atomic_path(final: str | os.PathLike, suffix: str | None = None):
     """Yield a temporary path beside ``final``; on success rename it to ``final``."""
@@ -23,6 +29,8 @@ def atomic_path(final: str | os.PathLike, suffix: str | None = None):
     os.close(fd)
     try:
         yield Path(tmp)
+        # mkstemp makes the file private (0600); give it the permissions of a normal new file.
+        os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, final)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):

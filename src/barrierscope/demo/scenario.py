@@ -1,0 +1,174 @@
+"""The bundled demo scenario. INVENTED DATA: no chemistry was computed or measured.
+
+A hypothetical reaction family: one reaction run on 3,4-disubstituted acetophenones
+(core ``CC(=O)c1ccc([*:1])c([*:2])c1``: R1 para, R2 meta to the acetyl group). For each
+member, the "computed" reaction free energy is an invented linear map of tabulated Hammett
+constants (the table tier's values, typed from memory of Hansch, Leo and Taft 1991) and
+Crippen molar refractivity, plus Gaussian noise; the "computed" barrier lies on a known
+asymptotic curve plus noise. The truth is written into :data:`TRUTH` and the data card.
+
+Everything is deterministic (fixed seeds), so `barrierscope demo` and
+``datasets/demo/make_demo.py`` produce the same files.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+CORE = "CC(=O)c1ccc([*:1])c([*:2])c1"
+
+#: The invented truth (kcal/mol; coefficients per unit of σ or of MR in cm³/mol).
+TRUTH = {
+    "curve": {"floor": 4.0, "midpoint": -6.0, "width": 5.0},
+    "energy_map": {"intercept": -9.0, "sigma_p_R1": -30.0, "sigma_m_R2": -14.0, "mr_R2": 0.25},
+    "noise": {"reaction_energy": 1.5, "barrier": 1.0},
+    "seeds": {"family": 20261201, "library": 7},
+    "family_size": 32,
+    "library_size": 3000,
+}
+
+#: Deliberately broken library rows (to show per-row statuses), with what is wrong.
+BROKEN_ROWS = [
+    ("bad-1", "CC(=O)c1ccc(C)c(", "unparseable SMILES"),
+    ("bad-2", "", "empty cell"),
+    ("bad-3", "c1ccccc1C(=O)O", "the core is not in the molecule"),
+    ("bad-4", "CC(=O)c1ccc(C)c(C)c1C", "a substituent at an unlabelled core position"),
+    ("bad-5", "CC(=O)c1ccc(C(C)=O)cc1", "the core is found in two places (a second acetyl group)"),
+]
+
+
+def _groups():
+    from rdkit import Chem
+
+    from ..descriptors.hammett import ENTRIES
+    from ..structures.checks import StructureError
+    from ..structures.core import CoreDecomposer
+
+    # Neutral groups only (charged ones would need counter-ions in a real family), and none
+    # that would put a second copy of the core into the molecule (acetyl, benzoyl, phenyl...).
+    core = CoreDecomposer(CORE)
+    keep = []
+    for e in ENTRIES:
+        if Chem.GetFormalCharge(Chem.MolFromSmiles(e.smiles)) != 0:
+            continue
+        try:
+            core.decompose_smiles(_molecule(e.smiles, "[*][H]"))
+            core.decompose_smiles(_molecule("[*][H]", e.smiles))
+        except StructureError:
+            continue
+        keep.append(e)
+    return keep
+
+
+def _molecule(r1: str, r2: str) -> str:
+    from rdkit import Chem
+
+    mol = Chem.MolFromSmiles(CORE)
+    for number, text in ((1, r1), (2, r2)):
+        sub = Chem.MolFromSmiles(text)
+        for a in sub.GetAtoms():
+            if a.GetAtomicNum() == 0:
+                a.SetAtomMapNum(number)
+        mol = Chem.molzip(mol, sub)
+    return Chem.MolToSmiles(Chem.RemoveHs(mol))
+
+
+def _truth(pairs, rng):
+    from ..descriptors.topological import substituent_descriptors
+    from ..relations import get_relation
+    from ..structures.substituent import substituent_key
+
+    m = TRUTH["energy_map"]
+    c = TRUTH["curve"]
+    energy, barrier = [], []
+    for a, b in pairs:
+        mr = substituent_descriptors(substituent_key(b.smiles))["mr"]
+        de = m["intercept"] + m["sigma_p_R1"] * a.sigma_p + m["sigma_m_R2"] * b.sigma_m + m["mr_R2"] * mr
+        de += rng.normal(0.0, TRUTH["noise"]["reaction_energy"])
+        dg = get_relation("asymptotic").barrier(np.array([de]), np.array([c["floor"], c["midpoint"], c["width"]]))[0]
+        dg += rng.normal(0.0, TRUTH["noise"]["barrier"])
+        energy.append(round(float(de), 2))
+        barrier.append(round(float(dg), 2))
+    return energy, barrier
+
+
+def make_family() -> pd.DataFrame:
+    """The 'computed' members: id, smiles, R1, R2 (as written), dG_r and dG_act in kcal/mol."""
+    from ..structures.checks import quiet_rdkit
+
+    quiet_rdkit()
+    groups = _groups()
+    rng = np.random.default_rng(TRUTH["seeds"]["family"])
+    # Spread the para group over the whole σp range so the curvature shows.
+    by_sp = sorted(groups, key=lambda e: e.sigma_p)
+    picks = np.linspace(0, len(by_sp) - 1, TRUTH["family_size"]).round().astype(int)
+    pairs = [(by_sp[i], groups[rng.integers(len(groups))]) for i in picks]
+    energy, barrier = _truth(pairs, rng)
+    return pd.DataFrame({
+        "id": [f"F{k + 1:02d}" for k in range(len(pairs))],
+        "smiles": [_molecule(a.smiles, b.smiles) for a, b in pairs],
+        "R1": [a.name for a, _ in pairs], "R2": [b.name for _, b in pairs],
+        "dG_r": energy, "dG_act": barrier,
+    })
+
+
+def make_library(family: pd.DataFrame | None = None) -> pd.DataFrame:
+    """Unsynthesised analogues: id, smiles; 200 of them carry a 'computed' dG_r (the cheap
+    calculation done ahead of transition states); the last rows are deliberately broken."""
+    from ..structures.checks import quiet_rdkit
+
+    quiet_rdkit()
+    family = make_family() if family is None else family
+    groups = _groups()
+    rng = np.random.default_rng(TRUTH["seeds"]["library"])
+    taken = set(zip(family["R1"], family["R2"]))
+    combos = [(a, b) for a in groups for b in groups if (a.name, b.name) not in taken]
+    order = rng.permutation(len(combos))[: TRUTH["library_size"] - len(BROKEN_ROWS)]
+    pairs = [combos[i] for i in order]
+    energy, _ = _truth(pairs, rng)
+    known = np.full(len(pairs), np.nan)
+    with_energy = rng.choice(len(pairs), size=200, replace=False)
+    known[with_energy] = np.asarray(energy)[with_energy]
+    lib = pd.DataFrame({
+        "id": [f"L{k + 1:04d}" for k in range(len(pairs))],
+        "smiles": [_molecule(a.smiles, b.smiles) for a, b in pairs],
+        "dG_r_computed": known,
+    })
+    broken = pd.DataFrame({"id": [b[0] for b in BROKEN_ROWS], "smiles": [b[1] for b in BROKEN_ROWS],
+                           "dG_r_computed": np.nan})
+    return pd.concat([lib, broken], ignore_index=True)
+
+
+def card_text() -> str:
+    t = TRUTH
+    c, m, n = t["curve"], t["energy_map"], t["noise"]
+    broken = "\n".join(f"- `{i}`: {why}" for i, _, why in BROKEN_ROWS)
+    return f"""# Demo family (INVENTED DATA)
+
+Everything in this folder is invented for the demonstration. No chemistry was computed or
+measured; the numbers only behave the way a real family's numbers might.
+
+- `family.csv`: {t['family_size']} members of a hypothetical reaction family run on
+  3,4-disubstituted acetophenones (core `{CORE}`; R1 para, R2 meta to the acetyl group).
+  Columns: `id`, `smiles`, `R1` and `R2` (the group names, for reading only), `dG_r`
+  ("computed" reaction free energy, kcal/mol), `dG_act` ("computed" free-energy barrier,
+  kcal/mol).
+- `library.csv`: {t['library_size']} unsynthesised analogues (`id`, `smiles`); 200 of them carry a
+  "computed" reaction free energy in `dG_r_computed` (kcal/mol), as a chemist would have after
+  the cheap calculation; the last {len(BROKEN_ROWS)} rows are broken on purpose:
+{broken}
+
+## How it was made
+
+`make_demo.py` (calling `barrierscope.demo.scenario`) with seeds {t['seeds']['family']} (family) and
+{t['seeds']['library']} (library):
+
+- reaction energy = {m['intercept']} + {m['sigma_p_R1']}·σp(R1) + {m['sigma_m_R2']}·σm(R2) + {m['mr_R2']}·MR(R2)
+  + N(0, {n['reaction_energy']}²) kcal/mol, with σ from the table tier (typed from memory of
+  Hansch, Leo, Taft, Chem. Rev. 1991, 91, 165) and MR the Wildman–Crippen molar refractivity of R2–H;
+- barrier = F + W·ln(1 + exp((dE − M)/W)) + N(0, {n['barrier']}²) with the true
+  F = {c['floor']}, M = {c['midpoint']}, W = {c['width']} kcal/mol;
+- family members were chosen to spread σp(R1) over the table's range, so that the reaction
+  energies span the curved region of the curve.
+"""

@@ -1,0 +1,1 @@
+"""The HTML report (:mod:`.html`) and its figures (:mod:`.figures`)."""
