@@ -136,6 +136,11 @@ def fit_family(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts: Fit
             warnings.append("missing descriptor values imputed with the training median: " +
                             ", ".join(f"{k} ({v} member(s))" for k, v in pre.imputed.items()))
         Z = two_stage.energy_.transform(X)
+        rank = int(np.linalg.matrix_rank(Z - Z.mean(axis=0))) if Z.size else 0
+        if Z.shape[1] > rank:
+            notes.append(f"{Z.shape[1] - rank} descriptor(s) are linear combinations of others (collinear, or more "
+                         f"descriptors than members); the {opts.learner} learner is regularised, so the fit stands, "
+                         f"but single coefficients mean little")
         from .estimators.importance import permutation_importance
 
         imp = permutation_importance(two_stage.energy_, X, energy, random_state=opts.random_state)

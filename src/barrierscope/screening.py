@@ -316,7 +316,8 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
     if not model.has_structures and opts.energy_column is None:
         opts = ScreenOptions(**{**opts.__dict__, "energy_column": model.energy_column})
     output.parent.mkdir(parents=True, exist_ok=True)
-    parts_dir = Path(tempfile.mkdtemp(prefix=f".{output.name}.parts.", dir=output.parent))
+    _remove_stale_parts(output)
+    parts_dir = Path(tempfile.mkdtemp(prefix=f".{output.name}.parts.{os.getpid()}.", dir=output.parent))
     bar = _Progress(_count_rows(library, in_fmt), progress and sys.stderr.isatty())
     barriers: list[np.ndarray] = []
     parts: list[Path] = []
@@ -362,6 +363,21 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
         shutil.rmtree(parts_dir, ignore_errors=True)
     summary.seconds = time.monotonic() - t0
     return summary
+
+
+def _remove_stale_parts(output: Path) -> None:
+    """Part folders left by a run that was killed (its process is gone) are removed."""
+    for folder in output.parent.glob(f".{output.name}.parts.*"):
+        try:
+            pid = int(folder.name.split(".parts.", 1)[1].split(".", 1)[0])
+        except (IndexError, ValueError):
+            continue
+        try:
+            os.kill(pid, 0)
+        except ProcessLookupError:
+            shutil.rmtree(folder, ignore_errors=True)
+        except PermissionError:  # someone else's live process
+            pass
 
 
 def _merge_top(current: list, frame: pd.DataFrame, col: str, k: int) -> list:

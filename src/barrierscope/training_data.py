@@ -19,7 +19,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import FitRefused, InputError, describe_row
-from .io.tables import ROW, parse_numeric, require_columns, row_ids
+from .io.tables import READ_ERROR, ROW, parse_numeric, require_columns, row_ids
 from .units import to_kcal, unit_mixup_hint
 
 #: Two values this close (kcal/mol) count as the same when merging duplicates.
@@ -118,6 +118,11 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
     require_columns(df, [energy_col, barrier_col], source)
     ids = row_ids(df, id_col, source)
     values, problems = numeric_columns(df, {"energy": energy_col, "barrier": barrier_col}, ids, unit)
+    if READ_ERROR in df.columns:  # the reader found these rows unusable (unless the caller did too)
+        rows = df[ROW].to_numpy()
+        known = {p.row for p in (extra_bad or [])}
+        problems += [RowProblem(int(rows[i]), ids.iloc[i], str(m))
+                     for i, m in enumerate(df[READ_ERROR].astype(str)) if m and int(rows[i]) not in known]
     problems = sorted(problems + list(extra_bad or []), key=lambda p: p.row)
     rows = df[ROW].to_numpy()
     bad_rows = {p.row for p in problems}

@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from ..io.tables import READ_ERROR
 from ..structures.checks import DEFAULT_MAX_HEAVY_ATOMS, StructureError
 from ..structures.spec import InputSpec
 from .tiers import DescriptorEngine
@@ -68,6 +69,10 @@ def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAU
     n = len(df)
     errors = np.full(n, None, dtype=object)
     kinds = np.full(n, None, dtype=object)
+    if READ_ERROR in df.columns:  # the reader already found the row unusable
+        bad = (df[READ_ERROR].astype(str) != "").to_numpy()
+        errors[bad] = df.loc[bad, READ_ERROR].astype(str).to_numpy()
+        kinds[bad] = "unreadable"
 
     if spec.mode == "substituents":
         from ..structures.substituent import substituent_key

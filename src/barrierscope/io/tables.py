@@ -304,8 +304,12 @@ def require_columns(df: pd.DataFrame, columns, source: str | os.PathLike) -> Non
     missing = [c for c in columns if c not in df.columns]
     if missing:
         have = [c for c in df.columns if not str(c).startswith("_")]
+        hint = ""
+        if len(have) == 1 and any(d in str(have[0]) for d in (" ", ";", "|", "\t", ",")):
+            hint = (" — the whole header reads as one column, so the file is probably delimited by "
+                    "something this reader did not recognise (use commas, tabs, semicolons or '|')")
         raise InputError(f"{source}: missing column(s) {', '.join(map(repr, missing))}; "
-                         f"the file has {', '.join(map(repr, have)) or 'no columns'}")
+                         f"the file has {', '.join(map(repr, have)) or 'no columns'}{hint}")
 
 
 def parse_numeric(values: pd.Series, column: str) -> tuple[np.ndarray, list[tuple[int, str]]]:

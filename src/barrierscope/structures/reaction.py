@@ -197,15 +197,23 @@ def resolve_reactions(df: pd.DataFrame, spec, max_atoms: int = DEFAULT_MAX_HEAVY
     """Resolution for reaction or template mode (see :mod:`..descriptors.featurize`)."""
     from ..descriptors.featurize import Resolution, _factorized, _first_error, _per_unique
 
+    from ..io.tables import READ_ERROR
+
     n = len(df)
     errors = np.full(n, None, dtype=object)
     kinds = np.full(n, None, dtype=object)
+    if READ_ERROR in df.columns:
+        bad = (df[READ_ERROR].astype(str) != "").to_numpy()
+        errors[bad] = df.loc[bad, READ_ERROR].astype(str).to_numpy()
+        kinds[bad] = "unreadable"
     reactions: list[Reaction | None] = [None] * n
     if spec.mode == "reaction":
         col = spec.columns[0]
         texts = df[col].astype(str).to_numpy()
         mult = df[spec.multiplicity].astype(str).to_numpy() if spec.multiplicity else [None] * n
         for i in range(n):
+            if errors[i] is not None:
+                continue
             try:
                 reactions[i] = parse_reaction(texts[i], max_atoms, mult[i])
             except StructureError as exc:
