@@ -68,32 +68,10 @@ def echo_warnings(warnings, quiet: bool = False) -> None:
 
 
 def print_json(obj) -> None:
-    typer.echo(json.dumps(obj, indent=2, allow_nan=False, default=_json_default))
+    """One JSON object on stdout (NaN as null, numpy values as plain numbers)."""
+    from .modelfile import json_ready
 
-
-def _json_default(o):
-    import numpy as np
-
-    if isinstance(o, (np.floating,)):
-        return float(o)
-    if isinstance(o, (np.integer,)):
-        return int(o)
-    if isinstance(o, np.ndarray):
-        return o.tolist()
-    raise TypeError(f"not JSON serialisable: {type(o).__name__}")
-
-
-def json_safe(obj):
-    """Replace non-finite floats by None so the JSON stays standard."""
-    import math
-
-    if isinstance(obj, dict):
-        return {k: json_safe(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [json_safe(v) for v in obj]
-    if isinstance(obj, float) and not math.isfinite(obj):
-        return None
-    return obj
+    typer.echo(json.dumps(json_ready(obj), indent=2, allow_nan=False))
 
 
 XTB_LEVEL_HELP = "GFN2-xTB level for reaction energies: sp (single points on force-field geometries) or opt."
@@ -138,7 +116,7 @@ def curve(
     summary["skipped"] = [{"row": p.row, "id": p.ident, "problem": p.message} for p in pairs.skipped]
     if as_json:
         echo_warnings(pairs.warnings)
-        print_json(json_safe(summary))
+        print_json(summary)
     else:
         echo_warnings(pairs.warnings)
         typer.echo(format_curve_summary(summary))
@@ -151,6 +129,20 @@ STRUCTURE_HELP = {
     "reaction": "Column of reaction SMILES 'A.B>>P' (atom maps allowed).",
     "template": "Reaction template 'REACTANTS>>PRODUCTS' with [*:1], [*:2] filled from --substituents.",
 }
+
+# Options shared by several commands (typer reads these declarations; they hold no state).
+OPT_SUBSTITUENTS = typer.Option(None, "--substituents", help=STRUCTURE_HELP["substituents"])
+OPT_MOLECULE = typer.Option(None, "--molecule", help=STRUCTURE_HELP["molecule"])
+OPT_CORE = typer.Option(None, "--core", help=STRUCTURE_HELP["core"])
+OPT_REACTION = typer.Option(None, "--reaction", help=STRUCTURE_HELP["reaction"])
+OPT_TEMPLATE = typer.Option(None, "--template", help=STRUCTURE_HELP["template"])
+OPT_TIERS = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none).")
+OPT_CACHE = typer.Option(None, "--cache-dir", help="Descriptor cache folder (default: the user cache).")
+OPT_MAX_ATOMS = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms.")
+OPT_SCHEDULER = typer.Option(None, "--scheduler", help="'local' (a loopback Dask cluster) or a Dask scheduler address.")
+OPT_XTB_LEVEL = typer.Option("sp", "--xtb-level", help=XTB_LEVEL_HELP)
+OPT_SOLVENT = typer.Option(None, "--solvent", help=SOLVENT_HELP)
+OPT_MULT = typer.Option(None, "--multiplicity", help=MULT_HELP)
 
 
 def structure_spec(substituents, molecule, core, reaction=None, template=None, multiplicity=None):
@@ -191,21 +183,21 @@ def make_engine(tiers: str, cache_dir: Optional[Path], workers: int = 1, schedul
 @guarded
 def descriptors(
     data: Path = typer.Argument(..., help="Table of structures (CSV, TSV, SMILES file, SDF, Parquet)."),
-    substituents: Optional[str] = typer.Option(None, "--substituents", help=STRUCTURE_HELP["substituents"]),
-    molecule: Optional[str] = typer.Option(None, "--molecule", help=STRUCTURE_HELP["molecule"]),
-    core: Optional[str] = typer.Option(None, "--core", help=STRUCTURE_HELP["core"]),
-    reaction: Optional[str] = typer.Option(None, "--reaction", help=STRUCTURE_HELP["reaction"]),
-    template: Optional[str] = typer.Option(None, "--template", help=STRUCTURE_HELP["template"]),
-    tiers: str = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none)."),
+    substituents: Optional[str] = OPT_SUBSTITUENTS,
+    molecule: Optional[str] = OPT_MOLECULE,
+    core: Optional[str] = OPT_CORE,
+    reaction: Optional[str] = OPT_REACTION,
+    template: Optional[str] = OPT_TEMPLATE,
+    tiers: str = OPT_TIERS,
     output: Path = typer.Option(..., "-o", "--output", help="Output table (.csv, .tsv or .parquet)."),
     id_column: Optional[str] = typer.Option(None, "--id", help="Column with row ids (default: 'id' if present)."),
-    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder (default: user cache)."),
-    max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
+    cache_dir: Optional[Path] = OPT_CACHE,
+    max_atoms: int = OPT_MAX_ATOMS,
     workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers (xtb, steric3d)."),
-    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' or a Dask scheduler address."),
-    xtb_level: str = typer.Option("sp", "--xtb-level", help=XTB_LEVEL_HELP),
-    solvent: Optional[str] = typer.Option(None, "--solvent", help=SOLVENT_HELP),
-    multiplicity: Optional[str] = typer.Option(None, "--multiplicity", help=MULT_HELP),
+    scheduler: Optional[str] = OPT_SCHEDULER,
+    xtb_level: str = OPT_XTB_LEVEL,
+    solvent: Optional[str] = OPT_SOLVENT,
+    multiplicity: Optional[str] = OPT_MULT,
     quiet: bool = typer.Option(False, "--quiet", help="No summary on stderr."),
 ):
     """Compute descriptors: one output row per input row, with a status column."""
@@ -237,12 +229,12 @@ def fit(
     energy: str = typer.Option(..., "--energy", help="Column with the reaction energy (product − reactant)."),
     barrier: str = typer.Option(..., "--barrier", help="Column with the barrier (TS − reactant)."),
     output: Path = typer.Option(..., "-o", "--output", help="Model file to write (JSON)."),
-    substituents: Optional[str] = typer.Option(None, "--substituents", help=STRUCTURE_HELP["substituents"]),
-    molecule: Optional[str] = typer.Option(None, "--molecule", help=STRUCTURE_HELP["molecule"]),
-    core: Optional[str] = typer.Option(None, "--core", help=STRUCTURE_HELP["core"]),
-    reaction: Optional[str] = typer.Option(None, "--reaction", help=STRUCTURE_HELP["reaction"]),
-    template: Optional[str] = typer.Option(None, "--template", help=STRUCTURE_HELP["template"]),
-    tiers: str = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none)."),
+    substituents: Optional[str] = OPT_SUBSTITUENTS,
+    molecule: Optional[str] = OPT_MOLECULE,
+    core: Optional[str] = OPT_CORE,
+    reaction: Optional[str] = OPT_REACTION,
+    template: Optional[str] = OPT_TEMPLATE,
+    tiers: str = OPT_TIERS,
     learner: str = typer.Option("ridge", "--learner", help="ridge, pls, gp or forest."),
     relation: str = typer.Option("asymptotic", "--relation",
                                  help="asymptotic, linear, marcus, agmon_levine, rehm_weller or auto."),
@@ -253,13 +245,13 @@ def fit(
     id_column: Optional[str] = typer.Option(None, "--id", help="Column with member ids (default: 'id' if present)."),
     shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
     skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) rows that cannot be used."),
-    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
-    max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
+    cache_dir: Optional[Path] = OPT_CACHE,
+    max_atoms: int = OPT_MAX_ATOMS,
     workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers."),
-    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' or a Dask scheduler address."),
-    xtb_level: str = typer.Option("sp", "--xtb-level", help=XTB_LEVEL_HELP),
-    solvent: Optional[str] = typer.Option(None, "--solvent", help=SOLVENT_HELP),
-    multiplicity: Optional[str] = typer.Option(None, "--multiplicity", help=MULT_HELP),
+    scheduler: Optional[str] = OPT_SCHEDULER,
+    xtb_level: str = OPT_XTB_LEVEL,
+    solvent: Optional[str] = OPT_SOLVENT,
+    multiplicity: Optional[str] = OPT_MULT,
     report: Optional[Path] = typer.Option(None, "--report", help="Write a self-contained HTML report here."),
     figures: Optional[Path] = typer.Option(None, "--figures", help="Also write the report's figures as PNG here."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table."),
@@ -290,7 +282,7 @@ def fit(
         write_fit_report(model, summary, report, figures, source=str(data))
     if as_json:
         echo_warnings(summary["warnings"])
-        print_json(json_safe(shown))
+        print_json(shown)
     else:
         typer.echo(format_fit_summary(shown))
         typer.echo(f"model written to {output}" + (f"; report {report}" if report else ""))
@@ -313,8 +305,8 @@ def screen(
     scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' (a loopback Dask cluster) or the "
                                                                         "address of a Dask scheduler."),
     chunk_size: int = typer.Option(20000, "--chunk-size", help="Rows per chunk (a task on the cluster)."),
-    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
-    max_atoms: int = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms."),
+    cache_dir: Optional[Path] = OPT_CACHE,
+    max_atoms: int = OPT_MAX_ATOMS,
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar and no summary."),
 ):
     """Rank a virtual library: barrier with its 90 % interval, α, rate, half-life, domain flags."""
@@ -352,7 +344,7 @@ def suggest(
     energy: Optional[str] = typer.Option(None, "--energy", help="Candidate column of computed reaction energies."),
     energy_units: Optional[str] = typer.Option(None, "--energy-units", help="Unit of --energy (default: the model's)."),
     id_column: Optional[str] = typer.Option(None, "--id", help="Column with candidate ids."),
-    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
+    cache_dir: Optional[Path] = OPT_CACHE,
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object with the picks."),
 ):
     """Suggest which candidates to compute next, and why."""
@@ -362,7 +354,7 @@ def suggest(
     result = suggest_file(model, candidates, k, goal, energy, normalize_unit(energy_units) if energy_units else None,
                           id_column, str(cache_dir) if cache_dir is not None else "default")
     if as_json:
-        print_json(json_safe(result))
+        print_json(result)
     else:
         typer.echo(format_suggestions(result))
 
@@ -371,7 +363,7 @@ def suggest(
 @guarded
 def demo(
     out: Path = typer.Option(Path("barrierscope-demo"), "--out", help="Folder for the demo's outputs."),
-    cache_dir: Optional[Path] = typer.Option(None, "--cache-dir", help="Descriptor cache folder."),
+    cache_dir: Optional[Path] = OPT_CACHE,
 ):
     """Run the whole job on the bundled demo family (invented data): fit, report, screen, advice."""
     from .demo.run import format_demo, run_demo

@@ -26,7 +26,7 @@ from .relations import RELATIONS, get_relation
 from .structures.spec import InputSpec
 from .training_data import RowProblem, load_pairs
 from .units import factor_to_kcal, normalize_unit, parse_energy_kind
-from .validation import (PHYSICS_ROUTES, choose_winner, loo_predictions, metrics, paired_comparison,
+from .validation import (PHYSICS_ROUTES, ROUTE_LABELS, choose_winner, loo_predictions, metrics, paired_comparison,
                          verdict_text, y_randomization)
 
 
@@ -262,19 +262,17 @@ def format_fit_summary(s: dict) -> str:
     unit = s["units"]
     lines = [f"{s['n']} members; {s['energy_kind']} in {unit}; learner {s['learner']}; relation {s['relation']}"
              + (f" (chosen from {s['requested_relation']})" if s["requested_relation"] != s["relation"] else ""), ""]
-    head = f"{'leave-one-out':<24} {'MAE':>7} {'RMSE':>7} {'Q²':>7} {'90% PI cover':>13}"
+    head = f"{'leave-one-out':<28} {'MAE':>7} {'RMSE':>7} {'Q²':>7} {'90% PI cover':>13}"
     lines += [head, "-" * len(head)]
     if s["energy_stage"] is not None:
         e = s["energy_stage"]
-        lines.append(f"{'energy stage (dE)':<24} {e['mae']:>7.3g} {e['rmse']:>7.3g} {e['r2']:>7.2f} {'':>13}")
-    labels = {"two_stage": "two-stage barrier", "hybrid": "hybrid barrier", "direct": "direct (black box)",
-              "curve_on_true_energy": "curve on true dE"}
-    for r, label in labels.items():
+        lines.append(f"{'energy stage (dE)':<28} {e['mae']:>7.3g} {e['rmse']:>7.3g} {e['r2']:>7.2f} {'':>13}")
+    for r, label in ROUTE_LABELS.items():
         m = s["routes"].get(r)
         if m is None:
             continue
         mark = " *" if s["winner"] == r else ""
-        lines.append(f"{label:<24} {m['mae']:>7.3g} {m['rmse']:>7.3g} {m['r2']:>7.2f} {m['pi90_coverage']:>12.0%}{mark}")
+        lines.append(f"{label:<28} {m['mae']:>7.3g} {m['rmse']:>7.3g} {m['r2']:>7.2f} {m['pi90_coverage']:>12.0%}{mark}")
     if s["comparison"]:
         lines += ["", "against the black box (MAE difference, 95 % bootstrap interval, Wilcoxon p):"]
         for k, c in s["comparison"].items():

@@ -45,21 +45,22 @@ def checksum(content: dict) -> str:
     return "sha256:" + hashlib.sha256(canonical_json(content).encode("utf-8")).hexdigest()
 
 
-def _finite(obj):
-    """Replace non-finite floats by None: JSON has no NaN (the loader restores where needed)."""
+def json_ready(obj):
+    """Plain JSON values: non-finite floats become None (JSON has no NaN), numpy scalars and
+    arrays become Python numbers and lists."""
     if isinstance(obj, float):
         return obj if math.isfinite(obj) else None
     if isinstance(obj, dict):
-        return {k: _finite(v) for k, v in obj.items()}
+        return {k: json_ready(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
-        return [_finite(v) for v in obj]
-    if hasattr(obj, "item") and not isinstance(obj, (str, bytes)):  # numpy scalars
-        return _finite(obj.item())
+        return [json_ready(v) for v in obj]
+    if hasattr(obj, "tolist") and not isinstance(obj, (str, bytes)):  # numpy scalars and arrays
+        return json_ready(obj.tolist())
     return obj
 
 
 def dumps(content: dict) -> str:
-    content = _finite(content)
+    content = json_ready(content)
     envelope = {"format": FORMAT, "schema_version": SCHEMA_VERSION, "barrierscope_version": __version__,
                 "created": datetime.now(timezone.utc).isoformat(timespec="seconds"), "content": content}
     envelope["checksum"] = checksum(content)

@@ -26,6 +26,9 @@ from .estimators.descriptor_regressor import DescriptorRegressor
 from .estimators.two_stage import HybridRegressor, TwoStageRegressor
 
 ROUTES = ("two_stage", "hybrid", "direct", "curve_on_true_energy")
+#: How tables name the routes.
+ROUTE_LABELS = {"two_stage": "two-stage barrier", "hybrid": "hybrid barrier", "direct": "direct barrier (black box)",
+                "curve_on_true_energy": "curve on the true dE"}
 PHYSICS_ROUTES = ("two_stage", "hybrid")
 Z90 = float(stats.norm.ppf(0.95))
 

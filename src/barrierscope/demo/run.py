@@ -16,6 +16,7 @@ import numpy as np
 import pandas as pd
 
 from ..io.atomic import write_text_atomic
+from ..modelfile import json_ready
 from .scenario import CORE, card_text, make_family, make_library
 
 
@@ -47,7 +48,7 @@ def run_demo(out: str | Path = "barrierscope-demo", cache_dir="default", k: int 
     model_path = out / "model.json"
     modelfile.save(model.as_dict(), model_path)
     write_text_atomic(out / "validation.json",
-                      json.dumps(_finite(summary_in_unit(summary, model.units)), indent=1, allow_nan=False))
+                      json.dumps(json_ready(summary_in_unit(summary, model.units)), indent=1, allow_nan=False))
 
     screen_path = out / "screen.csv"
     screen = run_screen(model_path, library_path, screen_path,
@@ -66,22 +67,12 @@ def run_demo(out: str | Path = "barrierscope-demo", cache_dir="default", k: int 
 
     advice = suggest_file(model_path, library_path, k, "parameters", energy_column="dG_r_computed",
                           cache_dir=cache_dir)
-    write_text_atomic(out / "suggestions.json", json.dumps(_finite(advice), indent=1, allow_nan=False))
+    write_text_atomic(out / "suggestions.json", json.dumps(json_ready(advice), indent=1, allow_nan=False))
 
     write_fit_report(model, summary, out / "report.html", out / "figures", source="demo family (invented data)",
                      screen={"summary": screen, "top": top_rows, "distances": distances}, picks=advice["picks"])
     return {"out": out, "model": model, "summary": summary, "screen": screen, "top": top_rows, "advice": advice,
             "seconds": time.monotonic() - t0}
-
-
-def _finite(obj):
-    if isinstance(obj, float):
-        return obj if np.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _finite(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_finite(v) for v in obj]
-    return obj
 
 
 def format_demo(result: dict) -> str:

@@ -60,6 +60,32 @@ def _first_error(errors, kinds, new_messages, new_kinds, prefix: str):
     kinds[take] = new_kinds[take]
 
 
+def reader_errors(df: pd.DataFrame):
+    """Per-row (message, kind) arrays, pre-filled where the reader found a row unusable."""
+    n = len(df)
+    errors = np.full(n, None, dtype=object)
+    kinds = np.full(n, None, dtype=object)
+    if READ_ERROR in df.columns:
+        bad = (df[READ_ERROR].astype(str) != "").to_numpy()
+        errors[bad] = df.loc[bad, READ_ERROR].astype(str).to_numpy()
+        kinds[bad] = "unreadable"
+    return errors, kinds
+
+
+def substituent_columns(df: pd.DataFrame, columns, errors, kinds) -> dict[str, np.ndarray]:
+    """Canonical substituent keys per column (each distinct cell parsed once); problems go
+    into ``errors``/``kinds`` (first problem of a row wins)."""
+    from ..structures.substituent import substituent_key
+
+    keys = {}
+    for col in columns:
+        codes, uniques = _factorized(df[col])
+        resolved, msg, kind = _per_unique(uniques, substituent_key)
+        keys[col] = resolved[codes]
+        _first_error(errors, kinds, msg[codes], kind[codes], col)
+    return keys
+
+
 def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> Resolution:
     """Canonical units of every row of ``df`` according to ``spec``.
 
@@ -67,22 +93,10 @@ def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAU
     with few distinct substituents costs few RDKit parses.
     """
     n = len(df)
-    errors = np.full(n, None, dtype=object)
-    kinds = np.full(n, None, dtype=object)
-    if READ_ERROR in df.columns:  # the reader already found the row unusable
-        bad = (df[READ_ERROR].astype(str) != "").to_numpy()
-        errors[bad] = df.loc[bad, READ_ERROR].astype(str).to_numpy()
-        kinds[bad] = "unreadable"
+    errors, kinds = reader_errors(df)
 
     if spec.mode == "substituents":
-        from ..structures.substituent import substituent_key
-
-        keys = {}
-        for col in spec.columns:
-            codes, uniques = _factorized(df[col])
-            resolved, msg, kind = _per_unique(uniques, substituent_key)
-            keys[col] = resolved[codes]
-            _first_error(errors, kinds, msg[codes], kind[codes], col)
+        keys = substituent_columns(df, spec.columns, errors, kinds)
         return Resolution("substituent", spec.positions, keys, errors, kinds)
 
     if spec.mode == "core":

@@ -16,6 +16,7 @@ import numpy as np
 from .. import __version__
 from ..cautions import CAUTION
 from ..units import factor_to_kcal
+from ..validation import ROUTE_LABELS
 from . import figures
 
 E = html.escape
@@ -90,9 +91,7 @@ def build_report(model, summary: dict, source: str = "", screen=None, picks=None
     if summary.get("energy_stage"):
         e = summary["energy_stage"]
         rows.append(["energy stage (reaction energy)", _num(e["mae"] / f), _num(e["rmse"] / f), _num(e["r2"], 2), "—"])
-    labels = {"two_stage": "two-stage barrier", "hybrid": "hybrid barrier", "direct": "direct barrier (black box)",
-              "curve_on_true_energy": "curve fed the true reaction energy"}
-    for r, label in labels.items():
+    for r, label in ROUTE_LABELS.items():
         m = summary["routes"].get(r)
         if m is None:
             continue

@@ -195,17 +195,10 @@ def reactant_order(reactions, frequency: Counter | None = None):
 
 def resolve_reactions(df: pd.DataFrame, spec, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS):
     """Resolution for reaction or template mode (see :mod:`..descriptors.featurize`)."""
-    from ..descriptors.featurize import Resolution, _factorized, _first_error, _per_unique
-
-    from ..io.tables import READ_ERROR
+    from ..descriptors.featurize import Resolution, reader_errors, substituent_columns
 
     n = len(df)
-    errors = np.full(n, None, dtype=object)
-    kinds = np.full(n, None, dtype=object)
-    if READ_ERROR in df.columns:
-        bad = (df[READ_ERROR].astype(str) != "").to_numpy()
-        errors[bad] = df.loc[bad, READ_ERROR].astype(str).to_numpy()
-        kinds[bad] = "unreadable"
+    errors, kinds = reader_errors(df)
     reactions: list[Reaction | None] = [None] * n
     if spec.mode == "reaction":
         col = spec.columns[0]
@@ -236,15 +229,8 @@ def resolve_reactions(df: pd.DataFrame, spec, max_atoms: int = DEFAULT_MAX_HEAVY
         res = Resolution("molecule", spec.positions, keys, errors, kinds)
         res.extra["reactant_frequency"] = frequency
     else:
-        from .substituent import substituent_key
-
         template = ReactionTemplate(spec.template)
-        subs = {}
-        for col in spec.columns:
-            codes, uniques = _factorized(df[col])
-            resolved, msg, kind = _per_unique(uniques, substituent_key)
-            subs[col] = resolved[codes]
-            _first_error(errors, kinds, msg[codes], kind[codes], col)
+        subs = substituent_columns(df, spec.columns, errors, kinds)
         for i in range(n):
             if errors[i] is not None:
                 continue
