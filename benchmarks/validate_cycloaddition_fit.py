@@ -73,7 +73,7 @@ def main() -> None:
     print(f"| **median of {len(rows)} families** | | {med['e']:.2f} | {med['two_stage']:.2f} | {med['hybrid']:.2f} | "
           f"{med['direct']:.2f} | {med['curve_on_true_energy']:.2f} | |")
     winners = [s["winner"] for _, s in rows]
-    print(f"\nwinners: " + ", ".join(f"{w} {winners.count(w)}" for w in sorted(set(winners))))
+    print("\nwinners: " + ", ".join(f"{w} {winners.count(w)}" for w in sorted(set(winners))))
     print(f"({time.perf_counter() - t0:.0f} s)", file=sys.stderr)
 
 

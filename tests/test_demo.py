@@ -37,7 +37,6 @@ def test_demo_outputs_exist_and_parse(demo):
 def test_demo_recovers_the_invented_truth(demo):
     from barrierscope.demo.scenario import TRUTH
 
-    params = demo["model"].curve.params_dict()
     ci = demo["model"].curve.ci_
     for k, v in TRUTH["curve"].items():
         assert ci[k][0] < v < ci[k][1], (k, v, ci[k])

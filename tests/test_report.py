@@ -5,7 +5,6 @@ import re
 import shutil
 import subprocess
 
-import numpy as np
 import pytest
 
 from barrierscope.descriptors.tiers import DescriptorEngine

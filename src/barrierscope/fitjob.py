@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from .cautions import CAUTION
-from .errors import FitRefused, InputError
+from .errors import FitRefused
 from .estimators.descriptor_regressor import DescriptorRegressor
 from .estimators.domain import ApplicabilityDomain
 from .estimators.learners import check_learner, minimum_members

@@ -12,7 +12,6 @@ import json
 import time
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 
 from ..io.atomic import write_text_atomic

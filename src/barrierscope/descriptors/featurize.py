@@ -92,7 +92,6 @@ def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAU
     Each distinct cell is resolved once and the results are taken by index, so a library
     with few distinct substituents costs few RDKit parses.
     """
-    n = len(df)
     errors, kinds = reader_errors(df)
 
     if spec.mode == "substituents":

@@ -14,7 +14,6 @@ Whole molecules: ``sasa`` (solvent-accessible surface, Å², probe 1.4 Å) and `
 
 from __future__ import annotations
 
-import numpy as np
 from rdkit import Chem
 
 VERSION = "steric3d-1"
