@@ -86,8 +86,11 @@ def screen_chunk(args) -> pd.DataFrame:
     return predict_chunk(model, chunk, source, opts, _engine(model, opts.cache_dir) if model.has_structures else None)
 
 
-def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, engine) -> pd.DataFrame:
-    """One output row per input row of ``chunk`` (see the module docstring for the columns)."""
+def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, engine,
+                  return_features: bool = False):
+    """One output row per input row of ``chunk`` (see the module docstring for the columns);
+    with ``return_features`` also the model's descriptor matrix of the chunk (None for a
+    curve-only model)."""
     chunk = chunk.reset_index(drop=True)
     n = len(chunk)
     unit = model.units
@@ -185,7 +188,8 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
     out["in_domain"] = good & ~out_desc & ~out_energy
     out["route"] = route
     out["notes"] = notes
-    return pd.DataFrame(out)
+    frame = pd.DataFrame(out)
+    return (frame, X) if return_features else frame
 
 
 def _model_features(X: pd.DataFrame, model) -> pd.DataFrame:

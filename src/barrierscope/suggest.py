@@ -182,17 +182,12 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
     opts = ScreenOptions(energy_column=energy_column, energy_units=energy_units, id_column=id_column,
                          cache_dir=cache_dir, max_atoms=max_atoms)
     engine = _engine(model, cache_dir) if model.has_structures else None
-    res = predict_chunk(model, table, str(candidates_path), opts, engine)
+    res, X = predict_chunk(model, table, str(candidates_path), opts, engine, return_features=True)
     ok = (res["status"] == "ok").to_numpy()
     if not ok.any():
         raise ValueError(f"{candidates_path}: no candidate could be predicted (see their statuses with `screen`)")
-    X = None
-    if model.has_structures:
-        from .descriptors.featurize import featurize
-        from .screening import _model_features
-
-        X = _model_features(featurize(table, model.spec, engine, max_atoms=max_atoms).X, model).iloc[np.flatnonzero(ok)]
-        X = X.reset_index(drop=True)
+    if X is not None:
+        X = X.iloc[np.flatnonzero(ok)].reset_index(drop=True)
     f = factor_to_kcal(model.units)
     from .screening import unit_slug
 
