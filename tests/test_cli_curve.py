@@ -39,6 +39,8 @@ def test_json_contract(tmp_path):
     assert set(a["params"]) == {"floor", "midpoint", "width"}
     assert set(a["ci95"]) == {"floor", "midpoint", "width"}
     assert isinstance(a["identifiable"], bool) and a["identifiable"]
+    top = out["asymptotic"]
+    assert top["ci95"] == a["ci95"] and top["identifiable"] is True and top["params"] == a["params"]
     assert out["best"] in out["relations"]
     lo, hi = a["ci95"]["width"]
     assert lo < a["params"]["width"] < hi

@@ -81,6 +81,8 @@ def summarize_curves(energy_kcal, barrier_kcal, unit: str = "kcal/mol", energy_k
         if ident is not None:
             a["identifiability"] = ident.as_dict(unit, f)
             a["alpha_members"] = curve.slope(x).tolist()
+        # The asymptotic curve's verdict also at the top level (`asymptotic.ci95`, `asymptotic.identifiable`).
+        out["asymptotic"] = {k: a[k] for k in ("params", "ci95", "identifiable", "derived", "reverse") if k in a}
     out["caution"] = CAUTION
     return out
 
