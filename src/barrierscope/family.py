@@ -18,7 +18,6 @@ from .estimators.domain import ApplicabilityDomain
 from .estimators.two_stage import HybridRegressor, TwoStageRegressor
 from .structures.spec import InputSpec
 
-Z90 = float(stats.norm.ppf(0.95))
 
 
 @dataclass

@@ -26,7 +26,7 @@ import pandas as pd
 from .cautions import CAUTION, RATE_NEEDS_FREE_ENERGY
 from .errors import InputError
 from .io.tables import ROW, detect_format, iter_table, parse_numeric, require_columns, row_ids
-from .kinetics import eyring_rate, format_duration
+from .kinetics import eyring_rate, format_duration, half_life
 from .units import factor_to_kcal, normalize_unit
 
 OK = "ok"
@@ -166,10 +166,10 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
         out_desc[idx] = p["ad_descriptor_out"]
         out_energy[idx] = p["ad_energy_out"]
         if model.energy_kind == "free-energy":
-            k = eyring_rate(p["barrier"], opts.temperature, opts.transmission)
-            cols["rate_constant_per_s"][idx] = k
-            cols["half_life_s"][idx] = np.log(2.0) / k
-            half_text[idx] = [format_duration(float(t)) for t in np.log(2.0) / k]
+            cols["rate_constant_per_s"][idx] = eyring_rate(p["barrier"], opts.temperature, opts.transmission)
+            t_half = half_life(p["barrier"], opts.temperature, opts.transmission)
+            cols["half_life_s"][idx] = t_half
+            half_text[idx] = [format_duration(float(t)) for t in t_half]
         marcus = p.get("marcus_outside")
         if marcus is not None and model.curve.relation_.name in ("marcus", "marcus_nowork"):
             for j, flag in zip(idx, marcus):

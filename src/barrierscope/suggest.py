@@ -74,13 +74,12 @@ def pick(curve, cands: Candidates, k: int, goal: str = "parameters", energy_stat
     for _ in range(min(k, n)):
         best, best_gain = None, -np.inf
         cov = np.linalg.inv(info)
-        sign0, logdet0 = np.linalg.slogdet(info)
+        logdet0 = np.linalg.slogdet(info)[1]
         for c in range(n):
             if c in chosen:
                 continue
             if goal == "parameters":
-                sign, logdet = np.linalg.slogdet(info + M[c])
-                gain = logdet - logdet0
+                gain = np.linalg.slogdet(info + M[c])[1] - logdet0
             else:
                 new_cov = np.linalg.inv(info + M[c])
                 before = np.einsum("np,pq,nq->n", Jpool, cov, Jpool)
@@ -137,15 +136,6 @@ def reason(curve, cands: Candidates, c: int, goal: str, train_energy: np.ndarray
     if goal == "predictions":
         parts.append("computing it would cut the predictive variance over the candidate pool the most")
     return "; ".join(parts)
-
-
-def candidates_from_predictions(model, X, pred: dict, ids) -> Candidates:
-    Z = model.two_stage.energy_.transform(X) if model.has_structures and X is not None else None
-    return Candidates(ids=list(ids), energy=np.asarray(pred["energy"], dtype=float),
-                      energy_sd=np.asarray(pred["energy_std"], dtype=float), Z=Z,
-                      in_domain=~(np.asarray(pred["ad_descriptor_out"]) | np.asarray(pred["ad_energy_out"])),
-                      ad_distance=np.asarray(pred["ad_distance"], dtype=float),
-                      given=np.asarray(pred["energy_given"], dtype=bool))
 
 
 def energy_state(model) -> dict | None:

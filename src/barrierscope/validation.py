@@ -30,7 +30,6 @@ ROUTES = ("two_stage", "hybrid", "direct", "curve_on_true_energy")
 ROUTE_LABELS = {"two_stage": "two-stage barrier", "hybrid": "hybrid barrier", "direct": "direct barrier (black box)",
                 "curve_on_true_energy": "curve on the true dE"}
 PHYSICS_ROUTES = ("two_stage", "hybrid")
-Z90 = float(stats.norm.ppf(0.95))
 
 
 @dataclass
