@@ -15,8 +15,8 @@ import time
 
 import numpy as np
 
-from barrierscope.comparison import compare_relations
-from barrierscope.curvefit import fit_relation
+from barrierscope.curves.compare import compare_relations
+from barrierscope.curves.fit import fit_relation
 from barrierscope.relations import RELATIONS, get_relation
 
 

@@ -19,7 +19,7 @@ import numpy as np
 import pandas as pd
 
 from barrierscope.relations import get_relation
-from barrierscope.validation import loo_predictions
+from barrierscope.validation.loo import loo_predictions
 
 
 def invented(n: int, p: int = 12, seed: int = 0):
@@ -35,7 +35,7 @@ def sklearn_ridge_loop(X, energy, barrier) -> None:
     from sklearn.pipeline import make_pipeline
     from sklearn.preprocessing import StandardScaler
 
-    from barrierscope.curve import CurveRegressor
+    from barrierscope.curves.regressor import CurveRegressor
 
     n = energy.size
     for i in range(n):

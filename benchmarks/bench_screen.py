@@ -29,8 +29,8 @@ from libraries import CORE, core_library  # noqa: E402
 
 RUNNER = r"""
 import json, resource, sys, time
-from barrierscope.engine import make_executor
-from barrierscope.screening import ScreenOptions, run_screen
+from barrierscope.jobs.executors import make_executor
+from barrierscope.jobs.screen import ScreenOptions, run_screen
 model, lib, out, workers, cache = sys.argv[1:6]
 ex = make_executor(int(workers))
 t0 = time.perf_counter()
@@ -50,12 +50,12 @@ def screen(model, lib, out, workers, cache) -> dict:
 
 
 def fit_model(folder: Path, cache: Path) -> Path:
-    from barrierscope import modelfile
+    from barrierscope.io import modelfile
     from barrierscope.descriptors.cache import DescriptorCache
     from barrierscope.descriptors.hammett import lookup
     from barrierscope.descriptors.tiers import DescriptorEngine
-    from barrierscope.fitjob import FitOptions, fit_family
     from barrierscope.io.tables import read_table
+    from barrierscope.jobs.fit import FitOptions, fit_family
     from barrierscope.relations import get_relation
     from barrierscope.structures.substituent import substituent_key
 
@@ -115,11 +115,11 @@ def main() -> None:
 
         subs = folder / "subs.csv"
         pd.DataFrame({"id": np.arange(args.n), "R1": [c[0] for c in combos], "R2": [c[1] for c in combos]}).to_csv(subs, index=False)
-        from barrierscope import modelfile
+        from barrierscope.io import modelfile
         from barrierscope.descriptors.cache import DescriptorCache
         from barrierscope.descriptors.tiers import DescriptorEngine
-        from barrierscope.fitjob import FitOptions, fit_family
         from barrierscope.io.tables import read_table
+        from barrierscope.jobs.fit import FitOptions, fit_family
         from barrierscope.structures.spec import make_spec
 
         fam = pd.read_csv(folder / "family.csv")

@@ -20,8 +20,8 @@ from pathlib import Path
 from barrierscope.descriptors.cache import DescriptorCache
 from barrierscope.descriptors.featurize import featurize
 from barrierscope.descriptors.tiers import DescriptorEngine
-from barrierscope.engine import ProcessExecutor, SerialExecutor
-from barrierscope.opendata import cycloaddition_path, load_cycloaddition
+from barrierscope.io.opendata import cycloaddition_path, load_cycloaddition
+from barrierscope.jobs.executors import ProcessExecutor, SerialExecutor
 from barrierscope.semiempirical.species import XtbSettings
 from barrierscope.structures.spec import make_spec
 

@@ -20,9 +20,9 @@ from pathlib import Path
 import numpy as np
 
 from barrierscope.descriptors.tiers import DescriptorEngine, parse_tiers
-from barrierscope.fitjob import FitOptions, fit_family
+from barrierscope.io.opendata import cycloaddition_path, load_cycloaddition
 from barrierscope.io.tables import ROW
-from barrierscope.opendata import cycloaddition_path, load_cycloaddition
+from barrierscope.jobs.fit import FitOptions, fit_family
 from barrierscope.structures.spec import make_spec
 
 

@@ -21,10 +21,10 @@ import numpy as np
 
 from barrierscope.descriptors.cache import DescriptorCache
 from barrierscope.descriptors.tiers import DescriptorEngine
-from barrierscope.engine import ProcessExecutor, SerialExecutor
-from barrierscope.fitjob import FitOptions, fit_family
+from barrierscope.io.opendata import cycloaddition_path, load_cycloaddition
 from barrierscope.io.tables import ROW
-from barrierscope.opendata import cycloaddition_path, load_cycloaddition
+from barrierscope.jobs.executors import ProcessExecutor, SerialExecutor
+from barrierscope.jobs.fit import FitOptions, fit_family
 from barrierscope.semiempirical.species import XtbSettings
 from barrierscope.structures.spec import make_spec
 

@@ -11,7 +11,7 @@ ROOT = Path(__file__).resolve().parents[1]
 
 
 def shared_cycloaddition_path() -> Path:
-    from barrierscope.opendata import cycloaddition_path
+    from barrierscope.io.opendata import cycloaddition_path
 
     return cycloaddition_path(ROOT)
 
@@ -22,7 +22,7 @@ def cycloaddition():
     path = shared_cycloaddition_path()
     if not path.exists():
         pytest.skip(f"open dataset not found at {path} (it lives in ../shared/datasets, outside the repo)")
-    from barrierscope.opendata import load_cycloaddition
+    from barrierscope.io.opendata import load_cycloaddition
 
     return load_cycloaddition(path)
 

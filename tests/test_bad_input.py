@@ -6,10 +6,10 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
+from families import substituent_family
 from typer.testing import CliRunner
 
 from barrierscope.cli import app
-from families import substituent_family
 
 runner = CliRunner()
 

@@ -3,10 +3,10 @@
 import json
 
 import pytest
+from families import substituent_family
 from typer.testing import CliRunner
 
 from barrierscope.cli import app
-from families import substituent_family
 
 runner = CliRunner()
 

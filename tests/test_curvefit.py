@@ -6,9 +6,18 @@ Synthetic families here are invented test data with a known truth, labelled as s
 import numpy as np
 import pytest
 
-from barrierscope.comparison import compare_relations, information_criteria, loo_predictions
-from barrierscope.curve import CurveRegressor
-from barrierscope.curvefit import FitError, bootstrap_intervals, fit_relation, wald_intervals
+from barrierscope.curves.compare import (
+    compare_relations,
+    information_criteria,
+    loo_predictions,
+)
+from barrierscope.curves.fit import (
+    FitError,
+    bootstrap_intervals,
+    fit_relation,
+    wald_intervals,
+)
+from barrierscope.curves.regressor import CurveRegressor
 from barrierscope.relations import get_relation
 
 ASYM = get_relation("asymptotic")

@@ -7,7 +7,7 @@ Data: T. Stuyver, K. Jorner, C. W. Coley, "Reaction profiles for quantum chemist
 
 import numpy as np
 
-from barrierscope.comparison import compare_relations
+from barrierscope.curves.compare import compare_relations
 
 
 def test_asymptotic_beats_linear_on_all_reactions(cycloaddition):

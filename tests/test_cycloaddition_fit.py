@@ -8,7 +8,6 @@ benchmarks/validate_cycloaddition_fit.py; this test runs the same code on six fa
 import sys
 
 import numpy as np
-
 from conftest import ROOT
 
 

@@ -18,7 +18,7 @@ def test_xtb_reaction_energy_tracks_dft(cycloaddition, tmp_path):
     from barrierscope.descriptors.cache import DescriptorCache
     from barrierscope.descriptors.featurize import REACTION_ENERGY_XTB, featurize
     from barrierscope.descriptors.tiers import DescriptorEngine
-    from barrierscope.engine import ProcessExecutor
+    from barrierscope.jobs.executors import ProcessExecutor
     from barrierscope.semiempirical.species import XtbSettings
     from barrierscope.structures.spec import make_spec
 

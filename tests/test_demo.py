@@ -6,13 +6,12 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
-
 from conftest import ROOT
 
 
 @pytest.fixture(scope="module")
 def demo(tmp_path_factory):
-    from barrierscope.demo.run import run_demo
+    from barrierscope.jobs.demo import run_demo
 
     out = tmp_path_factory.mktemp("demo")
     return run_demo(out, cache_dir=str(out / "cache"))

@@ -8,7 +8,10 @@ from rdkit import Chem
 
 from barrierscope.descriptors.featurize import featurize
 from barrierscope.descriptors.tiers import DescriptorEngine, parse_tiers
-from barrierscope.descriptors.topological import molecule_descriptors, substituent_descriptors
+from barrierscope.descriptors.topological import (
+    molecule_descriptors,
+    substituent_descriptors,
+)
 from barrierscope.structures.spec import make_spec
 
 # Molar masses from the IUPAC standard atomic weights (conventional values: H 1.008,

@@ -8,7 +8,12 @@ import pytest
 from sklearn.base import clone
 
 from barrierscope.estimators.descriptor_regressor import DescriptorRegressor
-from barrierscope.estimators.learners import LEARNERS, RIDGE_ALPHAS, fit_state, predict_state
+from barrierscope.estimators.learners import (
+    LEARNERS,
+    RIDGE_ALPHAS,
+    fit_state,
+    predict_state,
+)
 from barrierscope.estimators.two_stage import HybridRegressor, TwoStageRegressor
 from barrierscope.relations import get_relation
 

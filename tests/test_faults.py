@@ -10,7 +10,6 @@ import time
 import numpy as np
 import pandas as pd
 import pytest
-
 from families import substituent_family
 
 CLI = [sys.executable, "-m", "barrierscope.cli"]
@@ -73,11 +72,11 @@ def test_sigkill_during_fit_leaves_no_model_file(setup):
            "--shuffles", "20"]
     _kill_after(cmd, 2.0, env)
     if out.exists():  # complete, or not there at all
-        from barrierscope.modelfile import load_model
+        from barrierscope.io.modelfile import load_model
 
         load_model(out)
     subprocess.run(cmd[:-2] + ["--shuffles", "0"], check=True, env=env, capture_output=True)
-    from barrierscope.modelfile import load_model
+    from barrierscope.io.modelfile import load_model
 
     assert load_model(out).training["n"] == 24
 
@@ -86,8 +85,8 @@ def test_sigkill_during_fit_leaves_no_model_file(setup):
 def test_dask_worker_killed_mid_screen_loses_no_rows(setup):
     import threading
 
-    from barrierscope.engine import DaskExecutor
-    from barrierscope.screening import ScreenOptions, run_screen
+    from barrierscope.jobs.executors import DaskExecutor
+    from barrierscope.jobs.screen import ScreenOptions, run_screen
 
     folder, _, model, lib, env = setup
     out = folder / "dask.csv"

@@ -4,13 +4,13 @@ import json
 
 import numpy as np
 import pytest
+from families import substituent_family
 
-from barrierscope import modelfile
+from barrierscope.io import modelfile
 from barrierscope.descriptors.tiers import DescriptorEngine
 from barrierscope.errors import ModelFileError
-from barrierscope.fitjob import FitOptions, fit_family
+from barrierscope.jobs.fit import FitOptions, fit_family
 from barrierscope.structures.spec import make_spec
-from families import substituent_family
 
 
 @pytest.fixture(scope="module")
@@ -47,8 +47,9 @@ def test_no_pickle_anywhere(fitted, tmp_path):
     modelfile.save(fitted[0].as_dict(), path)
     text = path.read_text()
     json.loads(text)  # plain JSON
-    import barrierscope.modelfile as mf
     import inspect
+
+    import barrierscope.io.modelfile as mf
     assert "pickle" not in inspect.getsource(mf).replace("Never pickle", "").replace("unpickled", "")
 
 

@@ -78,7 +78,7 @@ def test_arbitrary_reactions_get_a_status(cells):
 @given(text=st.one_of(st.text(max_size=300),
                       st.builds(lambda s: '{"format": "barrierscope-model", "schema_version": 1, ' + s, st.text(max_size=80))))
 def test_arbitrary_model_text_is_refused_cleanly(text):
-    from barrierscope.modelfile import loads
+    from barrierscope.io.modelfile import loads
 
     CASES["model_text"] += 1
     with pytest.raises(ModelFileError):

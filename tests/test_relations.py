@@ -6,8 +6,13 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from barrierscope.relations import RELATIONS, get_relation
-from barrierscope.relations.asymptotic import (asymptotic_alpha, asymptotic_barrier, intrinsic_barrier,
-                                               reverse_parameters, uphill_excess)
+from barrierscope.relations.asymptotic import (
+    asymptotic_alpha,
+    asymptotic_barrier,
+    intrinsic_barrier,
+    reverse_parameters,
+    uphill_excess,
+)
 
 ASYM = get_relation("asymptotic")
 finite = dict(allow_nan=False, allow_infinity=False)

@@ -6,13 +6,13 @@ import shutil
 import subprocess
 
 import pytest
+from families import substituent_family
 
 from barrierscope.descriptors.tiers import DescriptorEngine
-from barrierscope.fitjob import FitOptions, fit_family
 from barrierscope.io.tables import read_table
-from barrierscope.report.html import build_report
+from barrierscope.jobs.fit import FitOptions, fit_family
 from barrierscope.structures.spec import make_spec
-from families import substituent_family
+from barrierscope.views.report import build_report
 
 NASTY = '<script>alert("x")</script>&"\''
 

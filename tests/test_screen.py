@@ -3,15 +3,15 @@
 import numpy as np
 import pandas as pd
 import pytest
-
-from barrierscope import modelfile
-from barrierscope.descriptors.tiers import DescriptorEngine
-from barrierscope.engine import DaskExecutor, ProcessExecutor, SerialExecutor
-from barrierscope.fitjob import FitOptions, fit_family
-from barrierscope.io.tables import read_table
-from barrierscope.screening import ScreenOptions, run_screen
-from barrierscope.structures.spec import make_spec
 from families import substituent_family
+
+from barrierscope.io import modelfile
+from barrierscope.descriptors.tiers import DescriptorEngine
+from barrierscope.io.tables import read_table
+from barrierscope.jobs.executors import DaskExecutor, ProcessExecutor, SerialExecutor
+from barrierscope.jobs.fit import FitOptions, fit_family
+from barrierscope.jobs.screen import ScreenOptions, run_screen
+from barrierscope.structures.spec import make_spec
 
 
 @pytest.fixture(scope="module")
@@ -103,9 +103,10 @@ def test_given_energies_take_the_curve_route(model_path, library, tmp_path):
 
 
 def test_no_rates_from_electronic_energies(tmp_path):
-    from barrierscope.cli import app
-    from typer.testing import CliRunner
     from conftest import ROOT
+    from typer.testing import CliRunner
+
+    from barrierscope.cli import app
 
     runner = CliRunner()
     model = tmp_path / "m.json"

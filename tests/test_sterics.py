@@ -6,7 +6,10 @@ import pytest
 
 pytest.importorskip("morfeus", reason="the steric3d tier needs morfeus-ml (extra 'steric')")
 
-from barrierscope.descriptors.sterics import molecule_shape_descriptors, sterimol_descriptors  # noqa: E402
+from barrierscope.descriptors.sterics import (  # noqa: E402
+    molecule_shape_descriptors,
+    sterimol_descriptors,
+)
 
 VERLOOP = {  # L, B1, B5 in Å (from memory)
     "*[H]": (2.06, 1.00, 1.00), "*C": (2.87, 1.52, 2.04), "*Cl": (3.52, 1.80, 1.80),

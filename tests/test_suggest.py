@@ -9,9 +9,9 @@ intervals and the error on the rest of the pool more than adding N random member
 import numpy as np
 import pytest
 
-from barrierscope.curve import CurveRegressor
+from barrierscope.curves.regressor import CurveRegressor
+from barrierscope.jobs.suggest import Candidates, pick
 from barrierscope.relations import get_relation
-from barrierscope.suggest import Candidates, pick
 
 ASYM = get_relation("asymptotic")
 TRUTH = np.array([4.0, -6.0, 5.0])  # invented floor, midpoint, width (kcal/mol)

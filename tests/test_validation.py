@@ -7,8 +7,13 @@ import pytest
 from scipy import stats
 
 from barrierscope.relations import get_relation
-from barrierscope.validation import (choose_winner, loo_predictions, mean_predictor_loo_mae, metrics,
-                                     paired_comparison)
+from barrierscope.validation.loo import (
+    choose_winner,
+    loo_predictions,
+    mean_predictor_loo_mae,
+    metrics,
+    paired_comparison,
+)
 
 ASYM = get_relation("asymptotic")
 

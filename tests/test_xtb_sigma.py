@@ -12,7 +12,11 @@ from scipy.stats import spearmanr
 pytest.importorskip("tblite", reason="the xtb tier needs tblite (extra 'xtb')")
 
 from barrierscope.descriptors.hammett import ENTRIES  # noqa: E402
-from barrierscope.descriptors.xtb_sigma import compute_calibration, deprotonation_shift, xtb_sigma_descriptors  # noqa: E402
+from barrierscope.descriptors.xtb_sigma import (  # noqa: E402
+    compute_calibration,
+    deprotonation_shift,
+    xtb_sigma_descriptors,
+)
 from barrierscope.structures.substituent import substituent_key  # noqa: E402
 
 # The common textbook set: neutral groups spanning donors to strong acceptors.

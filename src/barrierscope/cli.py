@@ -68,7 +68,7 @@ def echo_warnings(warnings, quiet: bool = False) -> None:
 
 def print_json(obj) -> None:
     """One JSON object on stdout (NaN as null, numpy values as plain numbers)."""
-    from .modelfile import json_ready
+    from .io.modelfile import json_ready
 
     typer.echo(json.dumps(json_ready(obj), indent=2, allow_nan=False))
 
@@ -96,9 +96,9 @@ def curve(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table."),
 ):
     """Fit every barrier–reaction-energy relation to a family and compare them."""
-    from .curve_summary import format_curve_summary, summarize_curves
+    from .io.pairs import load_pairs, require_members
     from .io.tables import read_table
-    from .training_data import load_pairs, require_members
+    from .jobs.curve import format_curve_summary, summarize_curves
     from .units import normalize_unit, parse_energy_kind
 
     unit = normalize_unit(units)
@@ -172,7 +172,7 @@ def make_engine(tiers: str, cache_dir: Optional[Path], workers: int = 1, schedul
     cache = DescriptorCache(cache_dir if cache_dir is not None else "default")
     executor = None
     if workers > 1 or scheduler:
-        from .engine import make_executor
+        from .jobs.executors import make_executor
 
         executor = make_executor(workers=workers, scheduler=scheduler)
     return DescriptorEngine(names, cache, executor=executor, xtb_settings=settings)
@@ -200,8 +200,8 @@ def descriptors(
     quiet: bool = typer.Option(False, "--quiet", help="No summary on stderr."),
 ):
     """Compute descriptors: one output row per input row, with a status column."""
-    from .descriptors.run import describe_file
     from .io.tables import write_table
+    from .jobs.describe import describe_file
 
     spec = structure_spec(substituents, molecule, core, reaction, template, multiplicity)
     if spec.mode == "none":
@@ -256,9 +256,9 @@ def fit(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table."),
 ):
     """Fit a family, validate every route leave-one-out, and write the model file."""
-    from . import modelfile
-    from .fitjob import FitOptions, fit_family, format_fit_summary, summary_in_unit
+    from .io import modelfile
     from .io.tables import read_table
+    from .jobs.fit import FitOptions, fit_family, format_fit_summary, summary_in_unit
 
     spec = structure_spec(substituents, molecule, core, reaction, template, multiplicity)
     extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
@@ -276,7 +276,7 @@ def fit(
     modelfile.save(model.as_dict(), output)
     shown = summary_in_unit(summary, model.units)
     if report is not None or figures is not None:
-        from .report.html import write_fit_report
+        from .views.report import write_fit_report
 
         write_fit_report(model, summary, report, figures, source=str(data))
     if as_json:
@@ -309,8 +309,8 @@ def screen(
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar and no summary."),
 ):
     """Rank a virtual library: barrier with its 90 % interval, α, rate, half-life, domain flags."""
-    from .engine import make_executor
-    from .screening import ScreenOptions, format_screen_summary, run_screen
+    from .jobs.executors import make_executor
+    from .jobs.screen import ScreenOptions, format_screen_summary, run_screen
     from .units import normalize_unit
 
     if chunk_size < 1:
@@ -327,7 +327,7 @@ def screen(
     finally:
         executor.close()
     if not quiet:
-        from .modelfile import load_model
+        from .io.modelfile import load_model
 
         typer.echo(format_screen_summary(summary, load_model(model).units, temperature), err=True)
 
@@ -347,7 +347,7 @@ def suggest(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object with the picks."),
 ):
     """Suggest which candidates to compute next, and why."""
-    from .suggest import format_suggestions, suggest_file
+    from .jobs.suggest import format_suggestions, suggest_file
     from .units import normalize_unit
 
     result = suggest_file(model, candidates, k, goal, energy, normalize_unit(energy_units) if energy_units else None,
@@ -365,7 +365,7 @@ def demo(
     cache_dir: Optional[Path] = OPT_CACHE,
 ):
     """Run the whole job on the bundled demo family (invented data): fit, report, screen, advice."""
-    from .demo.run import format_demo, run_demo
+    from .jobs.demo import format_demo, run_demo
 
     result = run_demo(out, str(cache_dir) if cache_dir is not None else "default")
     typer.echo(format_demo(result))

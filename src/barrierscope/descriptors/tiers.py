@@ -140,7 +140,7 @@ class DescriptorEngine:
     """Fills tiers for sets of canonical keys: memory first, then the SQLite cache, then compute.
 
     ``executor`` (optional) maps a function over keys for slow tiers — a process pool or a
-    Dask client wrapper from :mod:`barrierscope.engine`; results are identical either way.
+    Dask client wrapper from :mod:`barrierscope.jobs.executors`; results are identical either way.
     """
 
     def __init__(self, tiers=DEFAULT_TIERS, cache: DescriptorCache | None = None, executor=None,

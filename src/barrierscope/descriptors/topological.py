@@ -42,7 +42,12 @@ from rdkit import Chem
 from rdkit.Chem import Crippen, Descriptors, rdMolDescriptors, rdPartialCharges
 
 from ..structures.checks import quiet_rdkit
-from ..structures.substituent import HYDROGEN_KEY, attachment_index, capped_with_hydrogen, substituent_mol
+from ..structures.substituent import (
+    HYDROGEN_KEY,
+    attachment_index,
+    capped_with_hydrogen,
+    substituent_mol,
+)
 
 VERSION = "2d-1"
 

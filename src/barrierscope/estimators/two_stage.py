@@ -1,7 +1,7 @@
 """The physics-constrained route: descriptors → reaction energy → barrier through a relation.
 
 Stage 1 (:class:`DescriptorRegressor`) predicts the reaction energy Ê with its σ_E; stage 2
-(:class:`~barrierscope.curve.CurveRegressor`, fitted on the members' true reaction energies)
+(:class:`~barrierscope.curves.regressor.CurveRegressor`, fitted on the members' true reaction energies)
 maps it to a barrier. A member whose reaction energy is known (computed) skips stage 1.
 Predictive variance (METHOD §4): (α(Ê)·σ_E)² + J·Cov·Jᵀ + s²_curve.
 
@@ -15,7 +15,7 @@ import numpy as np
 from sklearn.base import BaseEstimator
 from sklearn.utils.validation import check_is_fitted
 
-from ..curve import CurveRegressor
+from ..curves.regressor import CurveRegressor
 from .descriptor_regressor import DescriptorRegressor
 
 
@@ -111,7 +111,7 @@ class HybridRegressor(BaseEstimator):
         self.random_state = random_state
 
     def fit(self, X, barrier, energy, two_stage: TwoStageRegressor | None = None):
-        from ..batchfit import refit_weighted
+        from ..curves.batch import refit_weighted
 
         barrier = np.asarray(barrier, dtype=float).ravel()
         energy = np.asarray(energy, dtype=float).ravel()

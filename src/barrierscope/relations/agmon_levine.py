@@ -12,7 +12,15 @@ from __future__ import annotations
 import numpy as np
 from scipy.special import expit
 
-from .base import Relation, data_scale, grid_start_g0, logistic_parts, softplus, split_params, stack_jacobian
+from .base import (
+    Relation,
+    data_scale,
+    grid_start_g0,
+    logistic_parts,
+    softplus,
+    split_params,
+    stack_jacobian,
+)
 
 LN2 = np.log(2.0)
 

@@ -22,7 +22,14 @@ from __future__ import annotations
 import numpy as np
 from scipy.special import expit, logit
 
-from .base import Relation, data_scale, logistic_parts, softplus, split_params, stack_jacobian
+from .base import (
+    Relation,
+    data_scale,
+    logistic_parts,
+    softplus,
+    split_params,
+    stack_jacobian,
+)
 
 
 def asymptotic_barrier(energy, floor, midpoint, width):

@@ -20,7 +20,12 @@ import re
 
 from rdkit import Chem
 
-from .checks import DEFAULT_MAX_HEAVY_ATOMS, StructureError, check_elements_and_size, parse_smiles
+from .checks import (
+    DEFAULT_MAX_HEAVY_ATOMS,
+    StructureError,
+    check_elements_and_size,
+    parse_smiles,
+)
 from .substituent import HYDROGEN_KEY, canonical_key_from_mol
 
 

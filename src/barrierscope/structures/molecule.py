@@ -6,7 +6,12 @@ from functools import lru_cache
 
 from rdkit import Chem
 
-from .checks import DEFAULT_MAX_HEAVY_ATOMS, StructureError, check_elements_and_size, parse_smiles
+from .checks import (
+    DEFAULT_MAX_HEAVY_ATOMS,
+    StructureError,
+    check_elements_and_size,
+    parse_smiles,
+)
 
 
 def molecule_key(text: str, max_heavy_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> str:

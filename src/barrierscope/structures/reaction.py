@@ -24,7 +24,13 @@ import pandas as pd
 from rdkit import Chem
 from rdkit.Chem import Descriptors, rdMolDescriptors
 
-from .checks import DEFAULT_MAX_HEAVY_ATOMS, StructureError, check_elements_and_size, parse_smiles, quiet_rdkit
+from .checks import (
+    DEFAULT_MAX_HEAVY_ATOMS,
+    StructureError,
+    check_elements_and_size,
+    parse_smiles,
+    quiet_rdkit,
+)
 
 
 @dataclass(frozen=True)
@@ -195,7 +201,7 @@ def reactant_order(reactions, frequency: Counter | None = None):
 
 def resolve_reactions(df: pd.DataFrame, spec, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS):
     """Resolution for reaction or template mode (see :mod:`..descriptors.featurize`)."""
-    from ..descriptors.featurize import Resolution, reader_errors, substituent_columns
+    from .resolve import Resolution, reader_errors, substituent_columns
 
     n = len(df)
     errors, kinds = reader_errors(df)

@@ -14,22 +14,22 @@ from pathlib import Path
 
 import pandas as pd
 
+from ..demo.scenario import CORE, card_text, make_family, make_library
 from ..io.atomic import write_text_atomic
-from ..modelfile import json_ready
-from .scenario import CORE, card_text, make_family, make_library
+from ..io.modelfile import json_ready
 
 
 def run_demo(out: str | Path = "barrierscope-demo", cache_dir="default", k: int = 5, shuffles: int = 5) -> dict:
-    from .. import modelfile
     from ..descriptors.cache import DescriptorCache
     from ..descriptors.tiers import DescriptorEngine
-    from ..engine import SerialExecutor
-    from ..fitjob import FitOptions, fit_family, summary_in_unit
+    from ..io import modelfile
     from ..io.tables import read_table
-    from ..report.html import write_fit_report
-    from ..screening import ScreenOptions, run_screen, unit_slug
     from ..structures.spec import make_spec
-    from ..suggest import suggest_file
+    from ..views.report import write_fit_report
+    from .executors import SerialExecutor
+    from .fit import FitOptions, fit_family, summary_in_unit
+    from .screen import ScreenOptions, run_screen, unit_slug
+    from .suggest import suggest_file
 
     t0 = time.monotonic()
     out = Path(out)
@@ -94,7 +94,7 @@ def format_demo(result: dict) -> str:
               "  model.json      the fitted model", "  validation.json the leave-one-out figures and the verdict",
               "  screen.csv      the ranked library", "  suggestions.json what to compute next",
               "  figures/        the report's figures as PNG", f"done in {result['seconds']:.0f} s"]
-    from ..cautions import CAUTION
+    from ..views.cautions import CAUTION
 
     lines += ["", CAUTION]
     return "\n".join(lines)

@@ -158,10 +158,10 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
                  energy_units: str | None = None, id_column: str | None = None, cache_dir="default",
                  max_atoms: int = 200) -> dict:
     """The `suggest` job: picks with scores and reasons, plus what was left out and why."""
-    from .io.tables import read_table
-    from .modelfile import load_model
-    from .screening import ScreenOptions, _engine, predict_chunk
-    from .units import factor_to_kcal
+    from ..io.modelfile import load_model
+    from ..io.tables import read_table
+    from ..units import factor_to_kcal
+    from .screen import ScreenOptions, _engine, predict_chunk
 
     if k < 1:
         raise ValueError("-k must be at least 1")
@@ -179,7 +179,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
     if X is not None:
         X = X.iloc[np.flatnonzero(ok)].reset_index(drop=True)
     f = factor_to_kcal(model.units)
-    from .screening import unit_slug
+    from .screen import unit_slug
 
     slug = unit_slug(model.units)
     sub = res[ok].reset_index(drop=True)
@@ -204,7 +204,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
 
 
 def format_suggestions(result: dict) -> str:
-    from .units import factor_to_kcal
+    from ..units import factor_to_kcal
 
     f = factor_to_kcal(result["units"])
     lines = [f"{result['considered']} of {result['candidates']} candidates considered; goal: {result['goal']}"]

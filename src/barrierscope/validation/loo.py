@@ -21,9 +21,9 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import stats
 
-from .curve import CurveRegressor
-from .estimators.descriptor_regressor import DescriptorRegressor
-from .estimators.two_stage import HybridRegressor, TwoStageRegressor
+from ..curves.regressor import CurveRegressor
+from ..estimators.descriptor_regressor import DescriptorRegressor
+from ..estimators.two_stage import HybridRegressor, TwoStageRegressor
 
 ROUTES = ("two_stage", "hybrid", "direct", "curve_on_true_energy")
 #: How tables name the routes.

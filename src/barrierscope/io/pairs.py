@@ -18,9 +18,9 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .errors import FitRefused, InputError, describe_row
-from .io.tables import READ_ERROR, ROW, parse_numeric, require_columns, row_ids
-from .units import to_kcal, unit_mixup_hint
+from ..errors import FitRefused, InputError, describe_row
+from ..units import to_kcal, unit_mixup_hint
+from .tables import READ_ERROR, ROW, parse_numeric, require_columns, row_ids
 
 #: Two values this close (kcal/mol) count as the same when merging duplicates.
 DUPLICATE_TOLERANCE = 1e-6

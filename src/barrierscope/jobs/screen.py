@@ -23,11 +23,18 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .cautions import CAUTION, RATE_NEEDS_FREE_ENERGY
-from .errors import InputError
-from .io.tables import ROW, detect_format, iter_table, parse_numeric, require_columns, row_ids
-from .kinetics import eyring_rate, format_duration, half_life
-from .units import factor_to_kcal, normalize_unit
+from ..errors import InputError
+from ..io.tables import (
+    ROW,
+    detect_format,
+    iter_table,
+    parse_numeric,
+    require_columns,
+    row_ids,
+)
+from ..kinetics import eyring_rate, format_duration, half_life
+from ..units import factor_to_kcal, normalize_unit
+from ..views.cautions import CAUTION, RATE_NEEDS_FREE_ENERGY
 
 OK = "ok"
 
@@ -55,7 +62,7 @@ _ENGINES: dict[tuple, object] = {}
 def _model(content: dict, key: str):
     model = _MODELS.get(key)
     if model is None:
-        from .family import FamilyModel
+        from .model import FamilyModel
 
         model = FamilyModel.from_dict(content)
         _MODELS.clear()  # one model per worker at a time
@@ -64,9 +71,9 @@ def _model(content: dict, key: str):
 
 
 def _engine(model, cache_dir):
-    from .descriptors.cache import DescriptorCache
-    from .descriptors.tiers import DescriptorEngine
-    from .semiempirical.species import XtbSettings
+    from ..descriptors.cache import DescriptorCache
+    from ..descriptors.tiers import DescriptorEngine
+    from ..semiempirical.species import XtbSettings
 
     xtb = model.xtb or {}
     key = (model.tiers, str(cache_dir), xtb.get("level"), xtb.get("solvent"))
@@ -99,7 +106,7 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
     status = np.full(n, OK, dtype=object)
     kind = np.full(n, "", dtype=object)
     notes = np.full(n, "", dtype=object)
-    from .io.tables import READ_ERROR
+    from ..io.tables import READ_ERROR
 
     if READ_ERROR in chunk.columns:
         bad = chunk[READ_ERROR].astype(str) != ""
@@ -122,7 +129,7 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
 
     X = None
     if model.has_structures:
-        from .descriptors.featurize import featurize
+        from ..descriptors.featurize import featurize
 
         block = featurize(chunk, model.spec, engine, max_atoms=opts.max_atoms)
         for i in np.flatnonzero(~block.ok):
@@ -299,8 +306,8 @@ def ordered_chunks(executor, fn, tasks, window: int):
 
 def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, chunk_size: int = 20000,
                top: int = 0, progress: bool = True) -> ScreenSummary:
-    from . import modelfile
-    from .family import FamilyModel
+    from ..io import modelfile
+    from .model import FamilyModel
 
     t0 = time.monotonic()
     content = modelfile.load(model_path)
@@ -390,7 +397,7 @@ def _merge_top(current: list, frame: pd.DataFrame, col: str, k: int) -> list:
 
 
 def _assemble(parts: list[Path], rank: np.ndarray, output: Path, fmt: str, header_frame) -> None:
-    from .io.atomic import atomic_path
+    from ..io.atomic import atomic_path
 
     with atomic_path(output) as tmp:
         if fmt == "parquet":

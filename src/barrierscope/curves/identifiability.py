@@ -16,8 +16,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import stats
 
-from .curvefit import ProfileInterval, RelationFit, fit_relation, t_quantile
-from .relations import LinearRelation
+from ..relations import LinearRelation
+from .fit import ProfileInterval, RelationFit, fit_relation, t_quantile
 
 
 @dataclass

@@ -14,9 +14,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .batchfit import refit_weighted
-from .curvefit import FitError, RelationFit, check_pairs, fit_relation
-from .relations import RELATIONS, get_relation
+from ..relations import RELATIONS, get_relation
+from .batch import refit_weighted
+from .fit import FitError, RelationFit, check_pairs, fit_relation
 
 BEST_BY = "loo_rmse"
 

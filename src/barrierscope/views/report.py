@@ -14,10 +14,10 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
-from ..cautions import CAUTION
 from ..units import factor_to_kcal
-from ..validation import ROUTE_LABELS
+from ..validation.loo import ROUTE_LABELS
 from . import figures
+from .cautions import CAUTION
 
 E = html.escape
 
@@ -69,7 +69,7 @@ def build_report(model, summary: dict, source: str = "", screen=None, picks=None
                  figures_dir: Path | None = None) -> str:
     """The report's HTML text. ``screen``: an optional ScreenSummary plus library distances;
     ``picks``: optional next-calculation suggestions."""
-    from ..comparison import compare_relations
+    from ..curves.compare import compare_relations
 
     unit = model.units
     f = factor_to_kcal(unit)

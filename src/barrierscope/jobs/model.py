@@ -12,12 +12,11 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import stats
 
-from .curve import CurveRegressor
-from .estimators.descriptor_regressor import DescriptorRegressor
-from .estimators.domain import ApplicabilityDomain
-from .estimators.two_stage import HybridRegressor, TwoStageRegressor
-from .structures.spec import InputSpec
-
+from ..curves.regressor import CurveRegressor
+from ..estimators.descriptor_regressor import DescriptorRegressor
+from ..estimators.domain import ApplicabilityDomain
+from ..estimators.two_stage import HybridRegressor, TwoStageRegressor
+from ..structures.spec import InputSpec
 
 
 @dataclass

@@ -21,7 +21,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import optimize, stats
 
-from .relations.base import Relation
+from ..relations.base import Relation
 
 
 class FitError(ValueError):
@@ -300,7 +300,7 @@ def profile_intervals(fit: RelationFit, energy, barrier, level: float = 0.95,
 def bootstrap_intervals(fit: RelationFit, energy, barrier, level: float = 0.95, n_boot: int = 1000,
                         random_state: int | None = 0) -> dict[str, tuple[float, float]]:
     """Case-resampling percentile intervals; each resample is refitted from θ̂."""
-    from .batchfit import refit_weighted
+    from .batch import refit_weighted
 
     relation = fit.relation
     x, y = check_pairs(energy, barrier, min_n=relation.n_params + 1)

@@ -14,11 +14,17 @@ from scipy import stats
 from sklearn.base import BaseEstimator, RegressorMixin
 from sklearn.utils.validation import check_is_fitted
 
-from .comparison import compare_relations
-from .curvefit import (bootstrap_intervals, check_pairs, correlation_matrix, fit_relation,
-                       profile_intervals, wald_intervals)
+from ..relations import DEFAULT_RELATION, get_relation
+from .compare import compare_relations
+from .fit import (
+    bootstrap_intervals,
+    check_pairs,
+    correlation_matrix,
+    fit_relation,
+    profile_intervals,
+    wald_intervals,
+)
 from .identifiability import assess_identifiability
-from .relations import DEFAULT_RELATION, get_relation
 
 INTERVAL_METHODS = ("profile", "wald", "bootstrap", "none")
 

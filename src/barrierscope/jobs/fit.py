@@ -14,20 +14,28 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .cautions import CAUTION
-from .errors import FitRefused
-from .estimators.descriptor_regressor import DescriptorRegressor
-from .estimators.domain import ApplicabilityDomain
-from .estimators.learners import check_learner, minimum_members
-from .estimators.two_stage import HybridRegressor, TwoStageRegressor
-from .family import FamilyModel
-from .io.tables import ROW, parse_numeric, require_columns, row_ids
-from .relations import RELATIONS, get_relation
-from .structures.spec import InputSpec
-from .training_data import RowProblem, load_pairs
-from .units import factor_to_kcal, normalize_unit, parse_energy_kind
-from .validation import (PHYSICS_ROUTES, ROUTE_LABELS, choose_winner, loo_predictions, metrics, paired_comparison,
-                         verdict_text, y_randomization)
+from ..errors import FitRefused
+from ..estimators.descriptor_regressor import DescriptorRegressor
+from ..estimators.domain import ApplicabilityDomain
+from ..estimators.learners import check_learner, minimum_members
+from ..estimators.two_stage import HybridRegressor, TwoStageRegressor
+from ..io.pairs import RowProblem, load_pairs
+from ..io.tables import ROW, parse_numeric, require_columns, row_ids
+from ..relations import RELATIONS, get_relation
+from ..structures.spec import InputSpec
+from ..units import factor_to_kcal, normalize_unit, parse_energy_kind
+from ..validation.loo import (
+    PHYSICS_ROUTES,
+    ROUTE_LABELS,
+    choose_winner,
+    loo_predictions,
+    metrics,
+    paired_comparison,
+    verdict_text,
+    y_randomization,
+)
+from ..views.cautions import CAUTION
+from .model import FamilyModel
 
 
 @dataclass
@@ -69,7 +77,7 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts
     X = None
     keys = None
     if spec.mode != "none":
-        from .descriptors.featurize import featurize
+        from ..descriptors.featurize import featurize
 
         require_columns(df, list(spec.columns) + ([spec.multiplicity] if spec.multiplicity else []), source)
         block = featurize(df, spec, engine, max_atoms=opts.max_atoms)
@@ -141,7 +149,7 @@ def fit_family(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts: Fit
             notes.append(f"{Z.shape[1] - rank} descriptor(s) are linear combinations of others (collinear, or more "
                          f"descriptors than members); the {opts.learner} learner is regularised, so the fit stands, "
                          f"but single coefficients mean little")
-        from .estimators.importance import permutation_importance
+        from ..estimators.importance import permutation_importance
 
         imp = permutation_importance(two_stage.energy_, X, energy, random_state=opts.random_state)
         top = np.argsort(imp)[::-1][:20]
@@ -215,7 +223,7 @@ def _xtb_settings(engine) -> dict:
 
 
 def _versions(engine) -> dict:
-    from .descriptors.tiers import TIERS
+    from ..descriptors.tiers import TIERS
 
     return {t: TIERS[t].version for t in getattr(engine, "tiers", ())}
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .relations.base import Relation
+from ..relations.base import Relation
 
 
 def refit_weighted(relation: Relation, energy, barrier, weights, theta0, *, max_iter: int = 200,

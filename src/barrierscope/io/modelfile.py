@@ -16,9 +16,9 @@ import os
 from datetime import datetime, timezone
 from pathlib import Path
 
-from . import __version__
-from .errors import ModelFileError
-from .io.atomic import write_text_atomic
+from .. import __version__
+from ..errors import ModelFileError
+from .atomic import write_text_atomic
 
 FORMAT = "barrierscope-model"
 SCHEMA_VERSION = 1
@@ -135,8 +135,8 @@ def load(path: str | os.PathLike) -> dict:
 
 
 def load_model(path: str | os.PathLike):
-    """The :class:`~barrierscope.family.FamilyModel` in a model file."""
-    from .family import FamilyModel
+    """The :class:`~barrierscope.jobs.model.FamilyModel` in a model file."""
+    from ..jobs.model import FamilyModel
 
     content = load(path)
     try:

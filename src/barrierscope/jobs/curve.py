@@ -8,11 +8,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from .cautions import CAUTION
-from .comparison import BEST_BY, compare_relations
-from .curve import CurveRegressor
-from .relations import RELATIONS
-from .units import factor_to_kcal, normalize_unit
+from ..curves.compare import BEST_BY, compare_relations
+from ..curves.regressor import CurveRegressor
+from ..relations import RELATIONS
+from ..units import factor_to_kcal, normalize_unit
+from ..views.cautions import CAUTION
 
 
 def _to_unit(name: str, value: float, relation, factor: float) -> float:

@@ -5,11 +5,11 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from ..descriptors.featurize import featurize
+from ..descriptors.tiers import DescriptorEngine
 from ..io.tables import ROW, iter_table, require_columns, row_ids
 from ..structures.checks import DEFAULT_MAX_HEAVY_ATOMS
 from ..structures.spec import InputSpec
-from .featurize import featurize
-from .tiers import DescriptorEngine
 
 
 def structure_columns(spec: InputSpec) -> list[str]:

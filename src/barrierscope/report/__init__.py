@@ -1,1 +1,0 @@
-"""The HTML report (:mod:`.html`) and its figures (:mod:`.figures`)."""
