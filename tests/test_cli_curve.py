@@ -32,7 +32,7 @@ def test_json_contract(tmp_path):
     write_family(path)
     out = run_json("curve", str(path), "--energy", "dG_r", "--barrier", "dG_act")
     assert out["n"] == 30
-    assert set(out["relations"]) == {"linear", "marcus", "agmon_levine", "rehm_weller", "asymptotic"}
+    assert set(out["relations"]) == {"linear", "marcus", "agmon_levine", "rehm_weller", "blowers_masel", "asymptotic"}
     for r in out["relations"].values():
         assert {"params", "loo_mae", "loo_rmse", "aicc"} <= set(r)
     a = out["relations"]["asymptotic"]

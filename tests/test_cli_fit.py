@@ -26,12 +26,20 @@ def test_fit_json_contract(family_csv, tmp_path):
     s = json.loads(r.stdout)
     assert s["n"] == 26
     assert set(s["energy_stage"]) >= {"mae", "rmse", "r2"}
-    assert set(s["routes"]) == {"two_stage", "hybrid", "direct", "curve_on_true_energy"}
+    assert set(s["routes"]) == {"two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean"}
     assert set(s["comparison"]) == {"two_stage_vs_direct", "hybrid_vs_direct"}
     assert "mae_mean" in s["y_randomization"]
-    assert s["winner"] in ("two_stage", "hybrid", "direct", "tie")
+    assert s["winner"] in ("two_stage", "hybrid", "direct", "tie", "family_mean")
+    # Every regime side by side (issue 13's contract).
+    assert set(s["validation"]) == {"loo", "downhill", "uphill", "clusters"}
+    for name, regime in s["validation"].items():
+        assert {"n_test", "routes", "winner"} <= set(regime), name
+        assert set(regime["routes"]) == {"two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean"}
+        for m in regime["routes"].values():
+            assert {"mae", "rmse"} <= set(m)
+    assert s["validation"]["downhill"]["n_test"] == 7  # the most exergonic quarter of 26, rounded up
     model = json.loads(out.read_text())
-    assert model["schema_version"] == 1 and model["content"]["units"] == "kcal/mol"
+    assert model["schema_version"] == 2 and model["content"]["units"] == "kcal/mol"
     assert model["content"]["tiers"] == ["2d", "table"] and model["content"]["features"]
 
 

@@ -24,7 +24,7 @@ def test_full_comparison_on_dipolarophile_families(cycloaddition):
             assert np.isfinite(s["routes"][r]["mae"])
         cte.append(s["routes"]["curve_on_true_energy"]["mae"])
         ts.append(s["routes"]["two_stage"]["mae"])
-        y = np.asarray(s["loo"]["barrier"])
+        y = np.asarray(s["members"]["barrier"])
         const.append(np.mean(np.abs(y - np.median(y))))
         print(f"{name[:32]:32s} n={s['n']} energy {s['energy_stage']['mae']:.2f} two-stage {ts[-1]:.2f} "
               f"direct {s['routes']['direct']['mae']:.2f} curve(true dE) {cte[-1]:.2f} -> {s['winner']}")

@@ -28,9 +28,10 @@ def test_demo_outputs_exist_and_parse(demo):
     picks = json.loads((out / "suggestions.json").read_text())["picks"]
     assert len(picks) == 5 and all({"id", "score", "reason"} <= set(p) for p in picks)
     v = json.loads((out / "validation.json").read_text())
-    assert v["winner"] in ("two_stage", "hybrid")  # the invented truth is a curve on a linear energy map
+    # The invented truth is a curve on a linear energy map: the physics routes clearly beat the black box.
+    assert v["comparison"]["two_stage_vs_direct"]["ci95"][1] < 0
+    assert v["winner"] in ("two_stage", "hybrid", "tie")
     assert "INVENTED" in (out / "CARD.md").read_text()
-    assert demo["seconds"] < 120
 
 
 def test_demo_recovers_the_invented_truth(demo):
@@ -55,9 +56,10 @@ def test_refit_reproduces_the_shipped_model(demo):
     shipped = json.loads((ROOT / "models" / "demo_model.json").read_text())["content"]
     refit = json.loads((demo["out"] / "model.json").read_text())["content"]
     assert shipped["features"] == refit["features"] and shipped["input"] == refit["input"]
-    assert np.allclose(shipped["curve"]["theta"], refit["curve"]["theta"], rtol=1e-6, atol=1e-8)
-    assert np.allclose(shipped["energy_stage"]["state"]["coef"], refit["energy_stage"]["state"]["coef"],
-                       rtol=1e-6, atol=1e-9)
+    assert np.allclose(shipped["two_stage"]["curve"]["theta"], refit["two_stage"]["curve"]["theta"], rtol=1e-6,
+                       atol=1e-8)
+    assert np.allclose(shipped["two_stage"]["energy_stage"]["state"]["coef"],
+                       refit["two_stage"]["energy_stage"]["state"]["coef"], rtol=1e-6, atol=1e-9)
     for route in ("two_stage", "hybrid", "direct", "curve_on_true_energy"):
         a, b = shipped["validation"]["routes"][route], refit["validation"]["routes"][route]
         assert a["mae"] == pytest.approx(b["mae"], rel=1e-6), route

@@ -20,7 +20,7 @@ params = st.tuples(st.floats(-20, 40, **finite), st.floats(-60, 60, **finite), s
 
 EXAMPLE_THETA = {
     "linear": [12.0, 0.4], "marcus": [40.0, 2.0], "marcus_nowork": [40.0], "agmon_levine": [12.0],
-    "rehm_weller": [12.0], "asymptotic": [5.0, -8.0, 6.0],
+    "rehm_weller": [12.0], "blowers_masel": [10.0, 100.0], "asymptotic": [5.0, -8.0, 6.0],
 }
 
 
@@ -155,5 +155,23 @@ def test_intrinsic_barrier_and_derived():
 
 
 def test_unknown_relation_lists_choices():
-    with pytest.raises(ValueError, match="valid choices: linear, marcus, agmon_levine, rehm_weller, asymptotic"):
+    with pytest.raises(ValueError, match="valid choices: linear, marcus, agmon_levine, rehm_weller, blowers_masel, "
+                                         "asymptotic"):
         get_relation("bep2")
+
+
+def test_blowers_masel_worked_by_hand():
+    # P. Blowers, R. Masel, AIChE J. 2000, 46, 2041, worked by hand (numbers ours) for E0 = 10,
+    # w = 100 kcal/mol: V = 2w(w + E0)/(w − E0) = 2200/9; V − 2w = 400/9; V² − 4w² = 1600000/81.
+    # dH = −20: 90·(400/9 − 20)²/(1600000/81 + 400) = 990/371;   dH = 0: E0 = 10;
+    # dH = +20: 110·(400/9 + 20)²/(1600000/81 + 400) = 8410/371; dH = +36: 3865798/106561.
+    bm = get_relation("blowers_masel")
+    theta = np.array([10.0, 100.0])
+    h = np.array([-20.0, 0.0, 20.0, 36.0])
+    assert bm.barrier(h, theta) == pytest.approx([990 / 371, 10.0, 8410 / 371, 3865798 / 106561], rel=1e-12)
+    # Slope exactly 1/2 at dH = 0; zero below −4E0; equal to dH above 4E0 (the published branches).
+    assert bm.slope(np.array([0.0]), theta)[0] == pytest.approx(0.5, abs=1e-12)
+    assert bm.barrier(np.array([-40.5, -100.0]), theta).tolist() == [0.0, 0.0]
+    assert bm.barrier(np.array([40.5, 75.0]), theta).tolist() == [40.5, 75.0]
+    # The published property that w → ∞ gives Marcus with λ = 4E0 (hand-worked Marcus values below).
+    assert bm.barrier(np.array([-8.0, 12.0]), np.array([10.0, 1e8])) == pytest.approx([6.4, 16.9], abs=1e-5)

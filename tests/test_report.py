@@ -12,7 +12,7 @@ from barrierscope.descriptors.tiers import DescriptorEngine
 from barrierscope.io.tables import read_table
 from barrierscope.jobs.fit import FitOptions, fit_family
 from barrierscope.structures.spec import make_spec
-from barrierscope.views.report import build_report
+from barrierscope.jobs.report import write_report
 
 NASTY = '<script>alert("x")</script>&"\''
 
@@ -26,9 +26,8 @@ def report(tmp_path_factory):
     model, summary = fit_family(read_table(folder / "fam.csv"), str(folder / NASTY), make_spec(substituents="R1,R2"),
                                 DescriptorEngine(("2d", "table")), FitOptions("dE", "dG", n_shuffles=1))
     summary["warnings"].append(f"a warning quoting {NASTY}")
-    text = build_report(model, summary, source=NASTY, figures_dir=folder / "figs")
     path = folder / "report.html"
-    path.write_text(text)
+    text = write_report(model, summary, path, folder / "figs", source=NASTY)
     return path, text
 
 

@@ -1,19 +1,19 @@
-"""Leave-one-out validation: no leakage, the verdict on invented families with a known truth,
-and interval coverage. All families here are invented test data (labelled so)."""
+"""Validation: no leakage, the engine equals refitting the estimators, the verdict on invented
+families with a known truth, and interval coverage. All families here are invented test
+data (labelled so)."""
 
 import numpy as np
 import pandas as pd
 import pytest
 from scipy import stats
 
+from barrierscope.estimators import DescriptorRegressor, HybridRegressor, TwoStageRegressor
 from barrierscope.relations import get_relation
-from barrierscope.validation.loo import (
-    choose_winner,
-    loo_predictions,
-    mean_predictor_loo_mae,
-    metrics,
-    paired_comparison,
-)
+from barrierscope.validation.metrics import beats, metrics, paired_comparison
+from barrierscope.validation.routes import out_of_fold
+from barrierscope.validation.splits import end_split, loo_splits
+from barrierscope.validation.verdict import decide
+from barrierscope.validation.yrandom import constant_predictor_loo_mae
 
 ASYM = get_relation("asymptotic")
 
@@ -27,27 +27,53 @@ def invented_family(n, seed, p=8, noise_e=1.0, noise_b=0.7):
     return X, energy, barrier
 
 
+def test_engine_equals_refitting_the_estimators_split_by_split():
+    # The batched engine must give what a plain loop of estimator refits gives: the same
+    # predictions for every route, in leave-one-out and in an extrapolation split.
+    X, energy, barrier = invented_family(16, seed=4, p=5)
+    for splits in (loo_splits(16), [end_split(energy, "downhill")]):
+        oof = out_of_fold(X, energy, barrier, splits)
+        for s in splits:
+            Xtr, Xte = X.iloc[s.train], X.iloc[s.test]
+            ts = TwoStageRegressor().fit(Xtr, barrier[s.train], energy=energy[s.train])
+            expect = {
+                "two_stage": ts.predict(Xte),
+                "curve_on_true_energy": ts.predict(Xte, energy=energy[s.test]),
+                "hybrid": HybridRegressor().fit(Xtr, barrier[s.train], energy=energy[s.train]).predict(Xte),
+                "direct": DescriptorRegressor().fit(Xtr, barrier[s.train]).predict(Xte),
+                "family_mean": np.full(s.test.size, barrier[s.train].mean()),
+            }
+            for route, values in expect.items():
+                assert np.allclose(oof.pred[route][s.test], values, atol=1e-5), route
+
+
 def test_no_leakage_with_shuffled_targets():
-    # If anything were fitted on the left-out member, shuffled targets would still be predicted
+    # If anything were fitted on the held-out member, shuffled targets would still be predicted
     # better than by the best constant (mean or median of the others). They must not be (beyond noise).
     X, energy, barrier = invented_family(30, seed=3)
     rng = np.random.default_rng(0)
     worse = 0
-    for k in range(4):
+    for _ in range(4):
         perm = rng.permutation(30)
-        res = loo_predictions(X, energy[perm], barrier[perm], routes=("two_stage", "direct"))
-        floor = mean_predictor_loo_mae(barrier[perm])
+        res = out_of_fold(X, energy[perm], barrier[perm], loo_splits(30), routes=("two_stage", "direct"))
+        floor = constant_predictor_loo_mae(barrier[perm])
         for r in ("two_stage", "direct"):
-            mae = np.mean(np.abs(res.pred[r] - barrier[perm]))
-            worse += mae >= 0.9 * floor
+            worse += np.mean(np.abs(res.pred[r] - barrier[perm])) >= 0.9 * floor
     assert worse == 8
+
+
+def test_downhill_split_holds_out_the_most_exergonic_quarter():
+    energy = np.array([5.0, -3.0, -20.0, 0.0, -11.0, 8.0, -7.0, 2.0])
+    s = end_split(energy, "downhill")
+    assert s.test.tolist() == [2, 4] and sorted(s.train.tolist() + s.test.tolist()) == list(range(8))
+    assert end_split(energy, "uphill").test.tolist() == [0, 5]
 
 
 def test_two_stage_beats_direct_at_small_n_and_intervals_cover():
     wins, coverage = [], []
     for seed in range(5):
         X, energy, barrier = invented_family(24, seed)
-        res = loo_predictions(X, energy, barrier)
+        res = out_of_fold(X, energy, barrier, loo_splits(24))
         ts = metrics(barrier, res.pred["two_stage"], res.low["two_stage"], res.high["two_stage"])
         di = metrics(barrier, res.pred["direct"], res.low["direct"], res.high["direct"])
         wins.append(ts["mae"] < di["mae"])
@@ -59,25 +85,41 @@ def test_two_stage_beats_direct_at_small_n_and_intervals_cover():
 
 def test_paired_comparison_against_scipy():
     rng = np.random.default_rng(4)
-    a = np.abs(rng.normal(1.0, 0.5, 30))
-    b = a + np.abs(rng.normal(0.5, 0.3, 30))
+    a = rng.normal(0.0, 1.0, 30)
+    b = np.sign(a) * (np.abs(a) + np.abs(rng.normal(0.5, 0.3, 30)))
     c = paired_comparison(a, b)
-    assert c["delta_mae"] == pytest.approx(np.mean(a - b))
+    assert c["delta_mae"] == pytest.approx(np.mean(np.abs(a) - np.abs(b)))
     assert c["ci95"][0] < c["delta_mae"] < c["ci95"][1] < 0
-    assert c["wilcoxon_p"] == pytest.approx(stats.wilcoxon(a, b).pvalue)
+    assert c["wilcoxon_p"] == pytest.approx(stats.wilcoxon(np.abs(a), np.abs(b)).pvalue)
+    assert beats(c) and not beats(paired_comparison(b, a))
 
 
-def test_winner_rules():
-    routes = {"two_stage": {"mae": 1.0}, "hybrid": {"mae": 1.1}, "direct": {"mae": 2.0}}
-    assert choose_winner(routes, {"two_stage": {"ci95": [-1.5, -0.5]}, "hybrid": {"ci95": [-1.4, -0.2]}}) == "two_stage"
-    assert choose_winner(routes, {"two_stage": {"ci95": [-1.5, 0.5]}, "hybrid": {"ci95": [-1.4, 0.2]}}) == "tie"
-    assert choose_winner(routes, {"two_stage": {"ci95": [0.5, 1.5]}, "hybrid": {"ci95": [0.2, 1.4]}}) == "direct"
+def test_verdict_calls_ties_and_names_the_members_behind_large_misses():
+    rng = np.random.default_rng(8)
+    ids = [f"m{i}" for i in range(24)]
+    small = rng.normal(0, 1.0, 24)
+    errors = {"two_stage": small.copy(), "hybrid": small * 1.01, "direct": rng.normal(0, 1.0, 24),
+              "family_mean": rng.normal(0, 6.0, 24)}
+    errors["two_stage"][5] = 66.0  # one member blown up
+    d = decide(errors, ids)
+    assert d["winner"] in ("tie", "direct")
+    assert d["misses"]["two_stage"][0][0] == "m5"
+    assert "family_mean" not in d["beats_mean"] and "direct" in d["beats_mean"]
+
+
+def test_no_route_beats_the_mean_when_the_barrier_ignores_everything():
+    # Invented: barriers are pure noise; no route may be called a winner over the family mean.
+    X, energy, _ = invented_family(30, seed=6)
+    barrier = np.random.default_rng(6).normal(15.0, 2.0, 30)
+    res = out_of_fold(X, energy, barrier, loo_splits(30))
+    d = decide({r: res.pred[r] - barrier for r in res.pred}, [str(i) for i in range(30)])
+    assert d["winner"] in ("tie", "family_mean") and d["beats_mean"] == []
 
 
 def test_curve_only_validation():
     rng = np.random.default_rng(5)
     energy = rng.uniform(-30, 15, 20)
     barrier = ASYM.barrier(energy, np.array([4.0, -6.0, 4.0])) + rng.normal(0, 0.7, 20)
-    res = loo_predictions(None, energy, barrier)
-    assert set(res.pred) == {"curve_on_true_energy"}
+    res = out_of_fold(None, energy, barrier, loo_splits(20))
+    assert set(res.pred) == {"curve_on_true_energy", "family_mean"}
     assert metrics(barrier, res.pred["curve_on_true_energy"])["mae"] < 1.0

@@ -1,4 +1,5 @@
-"""The ``barrierscope`` command line: a thin layer over the library.
+"""The ``barrierscope`` command line: a thin layer over the library (jobs compute in kcal/mol,
+views show the user's unit and words).
 
 Every command turns bad input into a one-paragraph message on stderr and a non-zero exit
 (2 for input the run cannot use); ``BARRIERSCOPE_DEBUG=1`` shows tracebacks.
@@ -20,8 +21,17 @@ app = typer.Typer(add_completion=False, no_args_is_help=True, pretty_exceptions_
                   help="Barrier estimates for a reaction family, with honest error bars.")
 
 
+def _version(value: bool) -> None:
+    if value:
+        from . import __version__
+
+        typer.echo(f"barrierscope {__version__}")
+        raise typer.Exit()
+
+
 @app.callback()
-def _root() -> None:
+def _root(version: bool = typer.Option(False, "--version", callback=_version, is_eager=True,
+                                       help="Print the version and exit.")) -> None:
     """Barrier estimates for a reaction family: structures and reaction energies to barriers,
     rates and half-lives, validated against a black-box baseline."""
 
@@ -53,17 +63,15 @@ def guarded(func):
         except Exception as exc:  # an internal fault: say so plainly
             if os.environ.get("BARRIERSCOPE_DEBUG"):
                 raise
-            _fail(f"internal error ({type(exc).__name__}: {exc}); rerun with BARRIERSCOPE_DEBUG=1 "
-                  f"for a traceback and report it", 3)
+            _fail(f"internal error ({type(exc).__name__}: {exc}); rerun with BARRIERSCOPE_DEBUG=1 for a traceback "
+                  f"and report it", 3)
 
     return wrapper
 
 
-def echo_warnings(warnings, quiet: bool = False) -> None:
-    if quiet:
-        return
-    for w in warnings:
-        typer.echo(f"warning: {w}", err=True)
+def warn(messages) -> None:
+    for m in messages:
+        typer.echo(f"warning: {m}", err=True)
 
 
 def print_json(obj) -> None:
@@ -73,148 +81,78 @@ def print_json(obj) -> None:
     typer.echo(json.dumps(json_ready(obj), indent=2, allow_nan=False))
 
 
-XTB_LEVEL_HELP = "GFN2-xTB level for reaction energies: sp (single points on force-field geometries) or opt."
-SOLVENT_HELP = "Implicit solvent (ALPB) for GFN2-xTB reaction energies, e.g. water; default none (gas)."
-MULT_HELP = "Column of spin multiplicities per species, laid out like the reaction ('2.1>>2')."
-UNITS_HELP = "Energy unit of the input columns: kcal/mol, kJ/mol, eV or hartree."
-KIND_HELP = "What the energies are: free-energy (gives rates), enthalpy or electronic."
-
-
-@app.command()
-@guarded
-def curve(
-    data: Path = typer.Argument(..., help="Table with one row per member (CSV, TSV, Parquet, SDF)."),
-    energy: str = typer.Option(..., "--energy", help="Column with the reaction energy (product − reactant)."),
-    barrier: str = typer.Option(..., "--barrier", help="Column with the barrier (TS − reactant)."),
-    units: str = typer.Option("kcal/mol", "--units", help=UNITS_HELP),
-    kind: str = typer.Option("free-energy", "--kind", help=KIND_HELP),
-    id_column: Optional[str] = typer.Option(None, "--id", help="Column with member ids (default: 'id' if present)."),
-    loss: str = typer.Option("linear", "--loss", help="linear (least squares) or soft_l1, huber, cauchy (robust)."),
-    intervals: str = typer.Option("profile", "--intervals", help="Parameter intervals: profile, wald or bootstrap."),
-    n_bootstrap: int = typer.Option(1000, "--n-bootstrap", help="Resamples for --intervals bootstrap."),
-    skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) rows with bad values."),
-    as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table."),
-):
-    """Fit every barrier–reaction-energy relation to a family and compare them."""
-    from .io.pairs import load_pairs, require_members
-    from .io.tables import read_table
-    from .jobs.curve import format_curve_summary, summarize_curves
-    from .units import normalize_unit, parse_energy_kind
-
-    unit = normalize_unit(units)
-    energy_kind = parse_energy_kind(kind).value
-    if intervals not in ("profile", "wald", "bootstrap"):
-        raise ValueError(f"unknown interval method {intervals!r}; valid choices: profile, wald, bootstrap")
-    df = read_table(data)
-    pairs = load_pairs(df, str(data), energy, barrier, unit, id_col=id_column, skip_bad_rows=skip_bad_rows)
-    require_members(pairs.n, 4, "comparing the relations with leave-one-out")
-    summary = summarize_curves(pairs.energy, pairs.barrier, unit=unit, energy_kind=energy_kind, loss=loss,
-                               intervals=intervals, n_bootstrap=n_bootstrap)
-    summary["energy_column"], summary["barrier_column"] = energy, barrier
-    summary["warnings"] = pairs.warnings
-    summary["skipped"] = [{"row": p.row, "id": p.ident, "problem": p.message} for p in pairs.skipped]
-    if as_json:
-        echo_warnings(pairs.warnings)
-        print_json(summary)
-    else:
-        echo_warnings(pairs.warnings)
-        typer.echo(format_curve_summary(summary))
-
-
-STRUCTURE_HELP = {
-    "substituents": "Comma-separated columns of substituent SMILES, one attachment atom each ([*]C#N).",
-    "molecule": "Column of whole-molecule SMILES (with --core: molecules to cut at the core).",
-    "core": "Core SMILES with numbered attachment points, e.g. 'OC(=O)c1ccc([*:1])cc1'.",
-    "reaction": "Column of reaction SMILES 'A.B>>P' (atom maps allowed).",
-    "template": "Reaction template 'REACTANTS>>PRODUCTS' with [*:1], [*:2] filled from --substituents.",
-}
-
 # Options shared by several commands (typer reads these declarations; they hold no state).
-OPT_SUBSTITUENTS = typer.Option(None, "--substituents", help=STRUCTURE_HELP["substituents"])
-OPT_MOLECULE = typer.Option(None, "--molecule", help=STRUCTURE_HELP["molecule"])
-OPT_CORE = typer.Option(None, "--core", help=STRUCTURE_HELP["core"])
-OPT_REACTION = typer.Option(None, "--reaction", help=STRUCTURE_HELP["reaction"])
-OPT_TEMPLATE = typer.Option(None, "--template", help=STRUCTURE_HELP["template"])
-OPT_TIERS = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none).")
-OPT_CACHE = typer.Option(None, "--cache-dir", help="Descriptor cache folder (default: the user cache).")
-OPT_MAX_ATOMS = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms.")
-OPT_SCHEDULER = typer.Option(None, "--scheduler", help="'local' (a loopback Dask cluster) or a Dask scheduler address.")
-OPT_XTB_LEVEL = typer.Option("sp", "--xtb-level", help=XTB_LEVEL_HELP)
-OPT_SOLVENT = typer.Option(None, "--solvent", help=SOLVENT_HELP)
-OPT_MULT = typer.Option(None, "--multiplicity", help=MULT_HELP)
-
-
-def structure_spec(substituents, molecule, core, reaction=None, template=None, multiplicity=None):
-    from .structures.core import CoreError
-    from .structures.spec import make_spec
-
-    try:
-        return make_spec(substituents=substituents, molecule=molecule, core=core, reaction=reaction,
-                         template=template, multiplicity=multiplicity)
-    except CoreError as exc:
-        raise ValueError(str(exc)) from None
-
-
-def xtb_settings(level: str = "sp", solvent: Optional[str] = None):
-    from .semiempirical.species import XtbSettings
-
-    solvent = None if solvent is None or solvent.strip().lower() in ("", "none", "gas") else solvent.strip()
-    return XtbSettings(level=level, solvent=solvent)
-
-
-def make_engine(tiers: str, cache_dir: Optional[Path], workers: int = 1, scheduler: Optional[str] = None,
-                xtb_level: str = "sp", solvent: Optional[str] = None):
-    from .descriptors.cache import DescriptorCache
-    from .descriptors.tiers import DescriptorEngine, parse_tiers
-
-    names = parse_tiers(tiers)
-    settings = xtb_settings(xtb_level, solvent)
-    cache = DescriptorCache(cache_dir if cache_dir is not None else "default")
-    executor = None
-    if workers > 1 or scheduler:
-        from .jobs.executors import make_executor
-
-        executor = make_executor(workers=workers, scheduler=scheduler)
-    return DescriptorEngine(names, cache, executor=executor, xtb_settings=settings)
+UNITS = typer.Option("kcal/mol", "--units", help="Energy unit of the input columns: kcal/mol, kJ/mol, eV, hartree.")
+KIND = typer.Option("free-energy", "--kind", help="What the energies are: free-energy (gives rates), enthalpy or "
+                                                  "electronic.")
+ID = typer.Option(None, "--id", help="Column with member ids (default: an 'id' column if present, else the row).")
+SUBSTITUENTS = typer.Option(None, "--substituents", help="Columns of substituent SMILES, one attachment atom each "
+                                                         "([*]C#N), comma-separated.")
+MOLECULE = typer.Option(None, "--molecule", help="Column of whole-molecule SMILES (with --core: cut at the core).")
+CORE = typer.Option(None, "--core", help="Core SMILES with numbered attachment points, e.g. 'OC(=O)c1ccc([*:1])cc1'.")
+REACTION = typer.Option(None, "--reaction", help="Column of reaction SMILES: 1–3 reactants >> 1–3 products.")
+TEMPLATE = typer.Option(None, "--template", help="Reaction template 'REACTANTS>>PRODUCTS' with [*:1], [*:2] filled "
+                                                 "from --substituents.")
+MULT = typer.Option(None, "--multiplicity", help="Column of spin multiplicities laid out like the reaction ('2.1>>2.1').")
+TIERS = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none).")
+CACHE = typer.Option(None, "--cache-dir", help="Descriptor cache folder (default: the user cache).")
+MAX_ATOMS = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms.")
+WORKERS = typer.Option(1, "--workers", help="Local worker processes.")
+SCHEDULER = typer.Option(None, "--scheduler", help="'local' (a loopback Dask cluster) or a Dask scheduler address.")
+XTB_LEVEL = typer.Option("sp", "--xtb-level", help="GFN2-xTB level for reaction energies: sp (single points on "
+                                                   "force-field geometries) or opt.")
+SOLVENT = typer.Option(None, "--solvent", help="Implicit solvent (ALPB) for GFN2-xTB, e.g. water; default none (gas).")
+REPORT = typer.Option(None, "--report", help="Write a self-contained HTML report here.")
+TEMPERATURE = typer.Option("298.15K", "--temperature", help="Temperature for rates and half-lives: 298.15K, 25C.")
+# `--units` is the one spelling; `--energy-units` is kept, hidden, for scripts written before.
+LIB_UNITS = typer.Option(None, "--units", "--energy-units", help="Unit of --energy (default: the model's).")
 
 
 @app.command()
 @guarded
-def descriptors(
-    data: Path = typer.Argument(..., help="Table of structures (CSV, TSV, SMILES file, SDF, Parquet)."),
-    substituents: Optional[str] = OPT_SUBSTITUENTS,
-    molecule: Optional[str] = OPT_MOLECULE,
-    core: Optional[str] = OPT_CORE,
-    reaction: Optional[str] = OPT_REACTION,
-    template: Optional[str] = OPT_TEMPLATE,
-    tiers: str = OPT_TIERS,
-    output: Path = typer.Option(..., "-o", "--output", help="Output table (.csv, .tsv or .parquet)."),
-    id_column: Optional[str] = typer.Option(None, "--id", help="Column with row ids (default: 'id' if present)."),
-    cache_dir: Optional[Path] = OPT_CACHE,
-    max_atoms: int = OPT_MAX_ATOMS,
-    workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers (xtb, steric3d)."),
-    scheduler: Optional[str] = OPT_SCHEDULER,
-    xtb_level: str = OPT_XTB_LEVEL,
-    solvent: Optional[str] = OPT_SOLVENT,
-    multiplicity: Optional[str] = OPT_MULT,
-    quiet: bool = typer.Option(False, "--quiet", help="No summary on stderr."),
-):
-    """Compute descriptors: one output row per input row, with a status column."""
-    from .io.tables import write_table
-    from .jobs.describe import describe_file
+def curve(data: Path = typer.Argument(..., help="Table with one row per member (CSV, TSV, XLSX, Parquet, SDF)."),
+          energy: str = typer.Option(..., "--energy", help="Column with the reaction energy (product − reactant)."),
+          barrier: str = typer.Option(..., "--barrier", help="Column with the barrier (TS − reactant)."),
+          units: str = UNITS, kind: str = KIND, id_column: Optional[str] = ID,
+          loss: str = typer.Option("squared", "--loss", help="squared (least squares), or soft, huber, cauchy "
+                                                             "(robust to outliers)."),
+          intervals: str = typer.Option("profile", "--intervals", help="Parameter intervals: profile, wald or "
+                                                                       "bootstrap."),
+          n_bootstrap: int = typer.Option(1000, "--n-bootstrap", help="Resamples for --intervals bootstrap."),
+          skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) bad rows."),
+          as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table.")):
+    """Fit every barrier–reaction-energy relation to a family and compare them."""
+    from .jobs.curve import curve_file
+    from .views.curve_text import curve_json, format_curve
 
-    spec = structure_spec(substituents, molecule, core, reaction, template, multiplicity)
-    if spec.mode == "none":
-        raise ValueError("say where the structures are: --substituents, --molecule (with or without --core), "
-                         "--reaction, or --template with --substituents")
-    engine = make_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent)
-    table = describe_file(data, spec, engine, id_column=id_column, max_atoms=max_atoms)
-    write_table(table, output)
+    record = curve_file(data, energy, barrier, units, kind, id_column, loss, intervals, n_bootstrap, skip_bad_rows)
+    warn(record["warnings"])
+    shown = curve_json(record, record["units"])
+    if as_json:
+        print_json(shown)
+    else:
+        typer.echo(format_curve(shown))
+
+
+@app.command()
+@guarded
+def descriptors(data: Path = typer.Argument(..., help="Table of structures (CSV, TSV, XLSX, SMILES, SDF, Parquet)."),
+                output: Path = typer.Option(..., "-o", "--output", help="Output table (.csv, .tsv or .parquet)."),
+                substituents: Optional[str] = SUBSTITUENTS, molecule: Optional[str] = MOLECULE,
+                core: Optional[str] = CORE, reaction: Optional[str] = REACTION, template: Optional[str] = TEMPLATE,
+                multiplicity: Optional[str] = MULT, tiers: str = TIERS, id_column: Optional[str] = ID,
+                cache_dir: Optional[Path] = CACHE, max_atoms: int = MAX_ATOMS, workers: int = WORKERS,
+                scheduler: Optional[str] = SCHEDULER, xtb_level: str = XTB_LEVEL, solvent: Optional[str] = SOLVENT,
+                quiet: bool = typer.Option(False, "--quiet", help="No summary on stderr.")):
+    """Compute descriptors: one output row per input row, with a status column."""
+    from .jobs.describe import run_describe
+
+    table = run_describe(data, output, (substituents, molecule, core, reaction, template, multiplicity), tiers,
+                         id_column, cache_dir, max_atoms, workers, scheduler, xtb_level, solvent)
     if not quiet:
         bad = table["status"] != "ok"
-        noted = table["notes"] != ""
         typer.echo(f"{len(table)} rows: {int((~bad).sum())} ok, {int(bad.sum())} with errors, "
-                   f"{int(noted.sum())} with missing descriptor values; written to {output}", err=True)
+                   f"{int((table['notes'] != '').sum())} with missing descriptor values; written to {output}", err=True)
         for _, r in table[bad].head(10).iterrows():
             typer.echo(f"  row {r['row']} ({r['id']}): {r['status']}", err=True)
         if bad.sum() > 10:
@@ -223,152 +161,135 @@ def descriptors(
 
 @app.command()
 @guarded
-def fit(
-    data: Path = typer.Argument(..., help="Table with one row per computed member."),
-    energy: str = typer.Option(..., "--energy", help="Column with the reaction energy (product − reactant)."),
-    barrier: str = typer.Option(..., "--barrier", help="Column with the barrier (TS − reactant)."),
-    output: Path = typer.Option(..., "-o", "--output", help="Model file to write (JSON)."),
-    substituents: Optional[str] = OPT_SUBSTITUENTS,
-    molecule: Optional[str] = OPT_MOLECULE,
-    core: Optional[str] = OPT_CORE,
-    reaction: Optional[str] = OPT_REACTION,
-    template: Optional[str] = OPT_TEMPLATE,
-    tiers: str = OPT_TIERS,
-    learner: str = typer.Option("ridge", "--learner", help="ridge, pls, gp or forest."),
-    relation: str = typer.Option("asymptotic", "--relation",
-                                 help="asymptotic, linear, marcus, agmon_levine, rehm_weller or auto."),
-    units: str = typer.Option("kcal/mol", "--units", help=UNITS_HELP),
-    kind: str = typer.Option("free-energy", "--kind", help=KIND_HELP),
-    extra_descriptors: Optional[str] = typer.Option(None, "--extra-descriptors",
-                                                    help="Comma-separated numeric columns of your own descriptors."),
-    id_column: Optional[str] = typer.Option(None, "--id", help="Column with member ids (default: 'id' if present)."),
-    shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
-    skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) rows that cannot be used."),
-    cache_dir: Optional[Path] = OPT_CACHE,
-    max_atoms: int = OPT_MAX_ATOMS,
-    workers: int = typer.Option(1, "--workers", help="Local processes for the slow tiers."),
-    scheduler: Optional[str] = OPT_SCHEDULER,
-    xtb_level: str = OPT_XTB_LEVEL,
-    solvent: Optional[str] = OPT_SOLVENT,
-    multiplicity: Optional[str] = OPT_MULT,
-    report: Optional[Path] = typer.Option(None, "--report", help="Write a self-contained HTML report here."),
-    figures: Optional[Path] = typer.Option(None, "--figures", help="Also write the report's figures as PNG here."),
-    as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table."),
-):
-    """Fit a family, validate every route leave-one-out, and write the model file."""
-    from .io import modelfile
-    from .io.tables import read_table
-    from .jobs.fit import FitOptions, fit_family, format_fit_summary, summary_in_unit
+def fit(data: Path = typer.Argument(..., help="Table with one row per computed member."),
+        energy: str = typer.Option(..., "--energy", help="Column with the reaction energy (product − reactant)."),
+        barrier: str = typer.Option(..., "--barrier", help="Column with the barrier (TS − reactant)."),
+        output: Path = typer.Option(..., "-o", "--output", help="Model file to write (JSON)."),
+        substituents: Optional[str] = SUBSTITUENTS, molecule: Optional[str] = MOLECULE, core: Optional[str] = CORE,
+        reaction: Optional[str] = REACTION, template: Optional[str] = TEMPLATE, multiplicity: Optional[str] = MULT,
+        tiers: str = TIERS,
+        learner: str = typer.Option("ridge", "--learner", help="ridge, pls, gp or forest."),
+        relation: str = typer.Option("asymptotic", "--relation", help="A relation (asymptotic, linear, marcus, "
+                                                                      "agmon_levine, rehm_weller, blowers_masel) or auto."),
+        units: str = UNITS, kind: str = KIND,
+        extra_descriptors: Optional[str] = typer.Option(None, "--extra-descriptors",
+                                                        help="Comma-separated numeric columns of your own descriptors."),
+        id_column: Optional[str] = ID,
+        shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
+        skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) unusable rows."),
+        cache_dir: Optional[Path] = CACHE, max_atoms: int = MAX_ATOMS, workers: int = WORKERS,
+        scheduler: Optional[str] = SCHEDULER, xtb_level: str = XTB_LEVEL, solvent: Optional[str] = SOLVENT,
+        members: Optional[Path] = typer.Option(None, "--members", help="Write each member's leave-one-out "
+                                                                       "predictions and flags here (CSV/TSV/Parquet)."),
+        report: Optional[Path] = REPORT,
+        figures: Optional[Path] = typer.Option(None, "--figures", help="Also write the report's figures as PNG here."),
+        as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table.")):
+    """Fit a family, validate every route in every regime, and write the model file."""
+    from .jobs.fit import FitOptions, fit_file
+    from .views.fit_text import fit_json, format_fit
 
-    spec = structure_spec(substituents, molecule, core, reaction, template, multiplicity)
     extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
-    engine = make_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent) if spec.mode != "none" else None
-    if engine is not None and not engine.tiers and not extra:
-        raise ValueError("--tiers none leaves no descriptors: add --extra-descriptors, or drop the structure "
-                         "options for a curve-only model")
-    if engine is None and tiers != "2d,table":
-        raise ValueError("--tiers needs a structure input (--substituents, --molecule, --reaction or --template)")
     opts = FitOptions(energy_column=energy, barrier_column=barrier, learner=learner, relation=relation, units=units,
                       energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
                       n_shuffles=shuffles, max_atoms=max_atoms)
-    df = read_table(data)
-    model, summary = fit_family(df, str(data), spec, engine, opts)
-    modelfile.save(model.as_dict(), output)
-    shown = summary_in_unit(summary, model.units)
-    if report is not None or figures is not None:
-        from .views.report import write_fit_report
-
-        write_fit_report(model, summary, report, figures, source=str(data))
+    model, record = fit_file(data, output, (substituents, molecule, core, reaction, template, multiplicity), tiers,
+                             opts, cache_dir=cache_dir, workers=workers, scheduler=scheduler, xtb_level=xtb_level,
+                             solvent=solvent, members=members, report=report, figures=figures)
+    warn(record["warnings"])
     if as_json:
-        echo_warnings(summary["warnings"])
-        print_json(shown)
+        print_json(fit_json(record, model.tiers))
     else:
-        typer.echo(format_fit_summary(shown))
-        typer.echo(f"model written to {output}" + (f"; report {report}" if report else ""))
+        written = [f"model written to {output}"] + [f"{what} {p}" for what, p in (("members", members),
+                                                                               ("report", report)) if p]
+        typer.echo(format_fit(fit_json(record, model.tiers), model.tiers) + "\n" + "; ".join(written))
 
 
 @app.command()
 @guarded
-def screen(
-    model: Path = typer.Argument(..., help="Model file written by `barrierscope fit`."),
-    library: Path = typer.Argument(..., help="Library to rank (CSV, TSV, SMILES file, SDF, Parquet)."),
-    output: Path = typer.Option(..., "-o", "--output", help="Results (.csv, .tsv or .parquet)."),
-    temperature: float = typer.Option(298.15, "--temperature", help="Temperature for rates and half-lives, K."),
-    transmission: float = typer.Option(1.0, "--transmission", help="Transmission coefficient κ of the Eyring equation."),
-    energy: Optional[str] = typer.Option(None, "--energy", help="Library column of computed reaction energies "
-                                                                  "(used instead of predicting them)."),
-    energy_units: Optional[str] = typer.Option(None, "--energy-units", help="Unit of --energy (default: the model's)."),
-    id_column: Optional[str] = typer.Option(None, "--id", help="Column with row ids (default: 'id' if present)."),
-    top: int = typer.Option(0, "--top", help="Print the K lowest-barrier rows in the summary."),
-    workers: int = typer.Option(1, "--workers", help="Local worker processes."),
-    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="'local' (a loopback Dask cluster) or the "
-                                                                        "address of a Dask scheduler."),
-    chunk_size: int = typer.Option(20000, "--chunk-size", help="Rows per chunk (a task on the cluster)."),
-    cache_dir: Optional[Path] = OPT_CACHE,
-    max_atoms: int = OPT_MAX_ATOMS,
-    quiet: bool = typer.Option(False, "--quiet", help="No progress bar and no summary."),
-):
+def screen(model: Path = typer.Argument(..., help="Model file written by `barrierscope fit`."),
+           library: Path = typer.Argument(..., help="Library to rank (CSV, TSV, XLSX, SMILES, SDF, Parquet)."),
+           output: Path = typer.Option(..., "-o", "--output", help="Results (.csv, .tsv or .parquet)."),
+           temperature: str = TEMPERATURE,
+           transmission: float = typer.Option(1.0, "--transmission", help="Transmission coefficient κ (Eyring)."),
+           energy: Optional[str] = typer.Option(None, "--energy", help="Library column of computed reaction energies "
+                                                                       "(used instead of predicting them)."),
+           units: Optional[str] = LIB_UNITS, id_column: Optional[str] = ID,
+           top: int = typer.Option(0, "--top", help="Print the K lowest-barrier rows (in-domain rows first)."),
+           workers: int = WORKERS, scheduler: Optional[str] = SCHEDULER,
+           chunk_size: int = typer.Option(20000, "--chunk-size", help="Rows per chunk (a task on the cluster)."),
+           cache_dir: Optional[Path] = CACHE, max_atoms: int = MAX_ATOMS, report: Optional[Path] = REPORT,
+           quiet: bool = typer.Option(False, "--quiet", help="No progress bar and no summary.")):
     """Rank a virtual library: barrier with its 90 % interval, α, rate, half-life, domain flags."""
     from .jobs.executors import make_executor
-    from .jobs.screen import ScreenOptions, format_screen_summary, run_screen
-    from .units import normalize_unit
+    from .jobs.predict import ScreenOptions
+    from .jobs.screen import run_screen
+    from .units import normalize_unit, parse_temperature
+    from .views.screen_text import format_screen
 
     if chunk_size < 1:
         raise ValueError("--chunk-size must be at least 1")
-    if temperature <= 0:
-        raise ValueError("--temperature must be positive (kelvin)")
-    opts = ScreenOptions(temperature=temperature, transmission=transmission, energy_column=energy,
-                         energy_units=normalize_unit(energy_units) if energy_units else None, id_column=id_column,
+    kelvin, note = parse_temperature(temperature)
+    warn([note] if note else [])
+    opts = ScreenOptions(temperature=kelvin, transmission=transmission, energy_column=energy,
+                         energy_units=normalize_unit(units) if units else None, id_column=id_column,
                          cache_dir=str(cache_dir) if cache_dir is not None else "default", max_atoms=max_atoms)
     executor = make_executor(workers=workers, scheduler=scheduler)
     try:
-        summary = run_screen(model, library, output, opts, executor=executor, chunk_size=chunk_size, top=top,
-                             progress=not quiet)
+        summary = run_screen(model, library, output, opts, executor=executor, chunk_size=chunk_size,
+                             top=max(top, 10 if report else 0), progress=not quiet)
     finally:
         executor.close()
-    if not quiet:
+    if report is not None:
         from .io.modelfile import load_model
+        from .jobs.report import write_report
 
-        typer.echo(format_screen_summary(summary, load_model(model).units, temperature), err=True)
+        write_report(load_model(model), path=report, source=str(library), screen=summary.as_dict())
+    if not quiet:
+        shown = summary.as_dict()
+        shown["top"] = shown["top"][:top]
+        typer.echo(format_screen(shown, summary.units, summary.energy_kind) +
+                   (f"\nreport written to {report}" if report else ""), err=True)
 
 
 @app.command()
 @guarded
-def suggest(
-    model: Path = typer.Argument(..., help="Model file written by `barrierscope fit`."),
-    candidates: Path = typer.Argument(..., help="Candidate members (same structure columns as the model)."),
-    k: int = typer.Option(..., "-k", help="How many members to suggest."),
-    goal: str = typer.Option("parameters", "--goal", help="parameters (pin the curve) or predictions "
-                                                          "(sharpen the pool's predictions)."),
-    energy: Optional[str] = typer.Option(None, "--energy", help="Candidate column of computed reaction energies."),
-    energy_units: Optional[str] = typer.Option(None, "--energy-units", help="Unit of --energy (default: the model's)."),
-    id_column: Optional[str] = typer.Option(None, "--id", help="Column with candidate ids."),
-    cache_dir: Optional[Path] = OPT_CACHE,
-    as_json: bool = typer.Option(False, "--json", help="Print one JSON object with the picks."),
-):
+def suggest(model: Path = typer.Argument(..., help="Model file written by `barrierscope fit`."),
+            candidates: Path = typer.Argument(..., help="Candidate members (same structure columns as the model)."),
+            k: int = typer.Option(..., "-k", help="How many members to suggest."),
+            goal: str = typer.Option("parameters", "--goal", help="parameters (pin the curve) or predictions "
+                                                                  "(sharpen the pool's predictions)."),
+            energy: Optional[str] = typer.Option(None, "--energy", help="Candidate column of computed reaction "
+                                                                        "energies."),
+            units: Optional[str] = LIB_UNITS, id_column: Optional[str] = ID, cache_dir: Optional[Path] = CACHE,
+            report: Optional[Path] = REPORT,
+            as_json: bool = typer.Option(False, "--json", help="Print one JSON object with the picks.")):
     """Suggest which candidates to compute next, and why."""
-    from .jobs.suggest import format_suggestions, suggest_file
+    from .io.modelfile import load_model
+    from .jobs.report import write_report
+    from .jobs.suggest import suggest_file
     from .units import normalize_unit
+    from .views.suggest_text import format_suggestions, suggest_json
 
-    result = suggest_file(model, candidates, k, goal, energy, normalize_unit(energy_units) if energy_units else None,
-                          id_column, str(cache_dir) if cache_dir is not None else "default")
+    fitted = load_model(model)
+    result = suggest_file(model, candidates, k, goal, energy, normalize_unit(units) if units else None, id_column,
+                          str(cache_dir) if cache_dir is not None else "default", model=fitted)
+    if report is not None:
+        write_report(fitted, path=report, source=str(candidates), picks=result)
     if as_json:
-        print_json(result)
+        print_json(suggest_json(result))
     else:
-        typer.echo(format_suggestions(result))
+        typer.echo(format_suggestions(result) + (f"\nreport written to {report}" if report else ""))
 
 
 @app.command()
 @guarded
-def demo(
-    out: Path = typer.Option(Path("barrierscope-demo"), "--out", help="Folder for the demo's outputs."),
-    cache_dir: Optional[Path] = OPT_CACHE,
-):
+def demo(out: Path = typer.Option(Path("barrierscope-demo"), "--out", help="Folder for the demo's outputs."),
+         cache_dir: Optional[Path] = CACHE):
     """Run the whole job on the bundled demo family (invented data): fit, report, screen, advice."""
-    from .jobs.demo import format_demo, run_demo
+    from .jobs.demo import run_demo
+    from .views.demo_text import format_demo
 
-    result = run_demo(out, str(cache_dir) if cache_dir is not None else "default")
-    typer.echo(format_demo(result))
+    typer.echo(format_demo(run_demo(out, str(cache_dir) if cache_dir is not None else "default")))
 
 
 def main() -> None:  # console-script entry point

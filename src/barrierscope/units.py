@@ -124,3 +124,31 @@ def unit_mixup_hint(barriers_kcal: np.ndarray, unit: str) -> str | None:
         return (f"the median |barrier| is {med:.3g} kcal/mol after reading the data as {unit}; "
                 f"values this small usually mean hartree or eV read as kcal/mol. Check --units.")
     return None
+
+
+#: A bare temperature below this is suspicious as kelvin (it is more likely Celsius).
+_BARE_KELVIN_MIN = 150.0
+
+
+def parse_temperature(text) -> tuple[float, str | None]:
+    """(kelvin, warning or None) from ``298.15K``, ``298.15 K``, ``25C``, ``25°C`` or a bare number.
+
+    A bare number is kelvin; below 150 it is still read as kelvin but with a warning naming
+    Celsius (0 °C = 273.15 K exactly, by definition of the Celsius scale, CODATA / SI brochure).
+    """
+    s = str(text).strip().replace(" ", "").replace("°", "")
+    scale = None
+    if s[-1:].upper() in ("K", "C"):
+        scale, s = s[-1].upper(), s[:-1]
+    try:
+        value = float(s)
+    except ValueError:
+        raise ValueError(f"temperature {text!r} is not a number with an optional unit (298.15K, 25C)") from None
+    kelvin = value + _c.zero_Celsius if scale == "C" else value
+    if not np.isfinite(kelvin) or kelvin <= 0:
+        raise ValueError(f"temperature {text!r} is at or below absolute zero")
+    warning = None
+    if scale is None and value < _BARE_KELVIN_MIN:
+        warning = (f"--temperature {text} is read as {value:g} K ({value - _c.zero_Celsius:.4g} °C); "
+                   f"for {value:g} °C write {value:g}C")
+    return kelvin, warning

@@ -1,47 +1,85 @@
-"""Refitting one relation to many weightings of the same data at once.
+"""Fitting one relation to many subsets or weightings of the same pairs at once.
 
-Exact leave-one-out (n refits, each without one member) and the case bootstrap (B refits,
-each with resampling counts as weights) are the same numerical job: minimise
-Σ_i w_ki (f(x_i; θ_k) − y_i)² for every row k of a weight matrix. Done one by one with
-``scipy.optimize.least_squares`` this costs n solver start-ups; here all problems take
-Levenberg–Marquardt steps together (K. Levenberg, Q. Appl. Math. 1944, 2, 164;
+Leave-one-out, extrapolation splits, y-randomisation, nested refits and the case bootstrap
+are one numerical job: minimise Σ_i w_ki (f(x_i; θ_k) − y_i)² for every row k of a weight
+matrix. Done one by one with ``scipy.optimize.least_squares`` this costs a solver start-up
+per refit (and, with several starts each, thousands of them per family). Here all problems
+take Levenberg–Marquardt steps together (K. Levenberg, Q. Appl. Math. 1944, 2, 164;
 D. W. Marquardt, J. SIAM 1963, 11, 431), vectorised over k, with the relation's analytic
-Jacobian, each warm-started from the full-data optimum. Bounds are kept by projection.
+Jacobian; bounds are kept by projection. A problem stops when its step or its forecast
+decrease is negligible, when its damping says no step helps, or after ``max_iter`` steps;
+a parameter that runs to its bound simply stays there (reported in ``at_bound``).
+
+Two ways to start:
+
+- :func:`fit_subsets` starts every subset from the relation's data-driven starts computed
+  on that subset alone, so nothing a subset must not see reaches its fit (leave-one-out and
+  extrapolation splits, where the held-out members must not steer the refit);
+- :func:`refit_weighted` starts from given parameters (warm starts for the bootstrap and for
+  nested refits whose starting fit already excludes the member being predicted).
 """
 
 from __future__ import annotations
+
+from dataclasses import dataclass
 
 import numpy as np
 
 from ..relations.base import Relation
 
+#: Elements of the (problems × members × parameters) Jacobian held at once (memory bound).
+_BLOCK = 4_000_000
 
-def refit_weighted(relation: Relation, energy, barrier, weights, theta0, *, max_iter: int = 200,
-                   tol: float = 1e-12, chunk: int = 256) -> np.ndarray:
-    """Least-squares parameters for each row of ``weights``.
+
+@dataclass
+class SubsetFits:
+    """Parameters fitted to each subset; energies in kcal/mol."""
+
+    theta: np.ndarray        # (m, p)
+    cost: np.ndarray         # (m,) weighted residual sum of squares, kcal²/mol²
+    at_bound: np.ndarray     # (m, p) bool: the parameter ended on its search bound
+    converged: np.ndarray    # (m,) bool: stopped by a convergence test, not by the step limit
+
+
+def interior(start, lo, hi) -> np.ndarray:
+    """``start`` clipped strictly inside finite bounds (a start on a bound cannot move off it)."""
+    x = np.clip(np.asarray(start, dtype=float), lo, hi)
+    pad_lo = np.where(np.isfinite(lo), 1e-9 * (1 + np.abs(np.nan_to_num(lo))), 0.0)
+    pad_hi = np.where(np.isfinite(hi), 1e-9 * (1 + np.abs(np.nan_to_num(hi))), 0.0)
+    x = np.where(x <= lo, lo + pad_lo, x)
+    return np.where(x >= hi, hi - pad_hi, x)
+
+
+def lm_solve(relation: Relation, energy, barrier, weights, theta0, lo, hi, *, max_iter: int = 200,
+             tol: float = 1e-10):
+    """Projected Levenberg–Marquardt on every row of ``weights`` at once.
 
     Parameters
     ----------
     energy, barrier : array (n,), kcal/mol
     weights : array (m, n), non-negative
-    theta0 : array (m, p) or (p,), starting parameters (usually the full-data fit)
+    theta0 : array (m, p), starting parameters
+    lo, hi : array (p,) or (m, p), parameter bounds
 
     Returns
     -------
-    theta : array (m, p)
+    (theta (m, p), cost (m,), converged (m,) bool)
     """
     x = np.asarray(energy, dtype=float)
     y = np.asarray(barrier, dtype=float)
     w = np.atleast_2d(np.asarray(weights, dtype=float))
-    theta0 = np.broadcast_to(np.asarray(theta0, dtype=float), (w.shape[0], relation.n_params))
-    lo, hi = relation.bounds(x, y)
-    out = np.empty_like(theta0)
-    # Chunks keep the (m, n, p) Jacobian inside a few tens of megabytes for large n.
-    step = max(1, min(chunk, int(4e6 // max(1, x.size * relation.n_params))))
-    for start in range(0, w.shape[0], step):
-        sl = slice(start, start + step)
-        out[sl] = _lm_batch(relation, x, y, w[sl], theta0[sl].copy(), lo, hi, max_iter, tol)
-    return out
+    m, p = w.shape[0], relation.n_params
+    theta = np.array(np.broadcast_to(np.asarray(theta0, dtype=float), (m, p)))
+    lo = np.broadcast_to(np.asarray(lo, dtype=float), (m, p))
+    hi = np.broadcast_to(np.asarray(hi, dtype=float), (m, p))
+    cost = np.empty(m)
+    converged = np.zeros(m, dtype=bool)
+    step = max(1, _BLOCK // max(1, x.size * p))
+    for s in range(0, m, step):
+        sl = slice(s, s + step)
+        theta[sl], cost[sl], converged[sl] = _lm_block(relation, x, y, w[sl], theta[sl], lo[sl], hi[sl],
+                                                       max_iter, tol)
+    return theta, cost, converged
 
 
 def _cost(relation, x, y, w, theta):
@@ -49,23 +87,23 @@ def _cost(relation, x, y, w, theta):
     return np.sum(w * r * r, axis=-1)
 
 
-def _lm_batch(relation, x, y, w, theta, lo, hi, max_iter, tol):
+def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
     m, p = theta.shape
     damping = np.full(m, 1e-3)
     cost = _cost(relation, x, y, w, theta)
     active = np.ones(m, dtype=bool)
+    converged = np.zeros(m, dtype=bool)
     eye = np.eye(p)
     for _ in range(max_iter):
-        if not active.any():
-            break
         idx = np.flatnonzero(active)
-        th = theta[idx]
-        wa = w[idx]
-        r = relation.barrier(x, th) - y                        # (k, n)
+        if idx.size == 0:
+            break
+        th, wa = theta[idx], w[idx]
+        r = relation.barrier(x, th) - y                         # (k, n)
         jac = relation.jacobian(x, th)                          # (k, n, p)
         jwt = (jac * wa[..., None]).transpose(0, 2, 1)          # (k, p, n)
-        a = jwt @ jac                                            # JᵀWJ
-        g = (jwt @ r[..., None])[..., 0]                         # JᵀWr
+        a = jwt @ jac                                           # JᵀWJ
+        g = (jwt @ r[..., None])[..., 0]                        # JᵀWr
         diag = np.einsum("kpp->kp", a)
         scale = np.where(diag > 0, diag, 1.0)
         lhs = a + damping[idx, None, None] * scale[:, :, None] * eye
@@ -73,18 +111,77 @@ def _lm_batch(relation, x, y, w, theta, lo, hi, max_iter, tol):
             delta = -np.linalg.solve(lhs, g[..., None])[..., 0]
         except np.linalg.LinAlgError:
             delta = -np.einsum("kpq,kq->kp", np.linalg.pinv(lhs), g)
-        trial = np.clip(th + delta, lo, hi)
+        trial = np.clip(th + delta, lo[idx], hi[idx])
         trial_cost = _cost(relation, x, y, wa, trial)
         better = trial_cost <= cost[idx]
-        # Gauss–Newton's own forecast of the decrease (cost counts Σ w r², so factor 2 on g).
-        step = trial - th
-        forecast = -2.0 * np.sum(g * step, axis=1) - np.einsum("kp,kpq,kq->k", step, a, step)
-        moved = np.max(np.abs(step) / (np.abs(th) + 1e-8), axis=1)
-        theta[idx[better]] = trial[better]
-        cost[idx[better]] = trial_cost[better]
-        damping[idx[better]] = np.maximum(damping[idx[better]] / 3.0, 1e-12)
-        damping[idx[~better]] = damping[idx[~better]] * 4.0
-        converged = (np.abs(forecast) <= tol * (cost[idx] + tol)) | (moved <= 1e-10)
-        done = converged | (damping[idx] > 1e12)
+        stp = trial - th
+        # Gauss–Newton's forecast of the decrease (the cost counts Σ w r², hence 2 on g).
+        forecast = -2.0 * np.sum(g * stp, axis=1) - np.einsum("kp,kpq,kq->k", stp, a, stp)
+        moved = np.max(np.abs(stp) / (np.abs(th) + 1e-8), axis=1)
+        good = idx[better]
+        theta[good] = trial[better]
+        cost[good] = trial_cost[better]
+        damping[good] = np.maximum(damping[good] / 3.0, 1e-12)
+        damping[idx[~better]] *= 4.0
+        settled = (np.abs(forecast) <= tol * (cost[idx] + tol)) | (moved <= 1e-10)
+        done = settled | (damping[idx] > 1e12)
+        converged[idx[done]] = True
         active[idx[done]] = False
+    return theta, cost, converged
+
+
+def _at_bound(theta, lo, hi) -> np.ndarray:
+    span = np.where(np.isfinite(hi - lo), hi - lo, 1.0 + np.abs(theta))
+    return ((np.isfinite(lo) & (theta - lo <= 1e-6 * span)) |
+            (np.isfinite(hi) & (hi - theta <= 1e-6 * span)))
+
+
+def refit_weighted(relation: Relation, energy, barrier, weights, theta0, *, bounds=None, max_iter: int = 200,
+                   tol: float = 1e-10) -> np.ndarray:
+    """Least-squares parameters (m, p) for each row of ``weights`` (m, n), warm-started at
+    ``theta0`` ((p,) or (m, p)), within ``bounds`` ((lo, hi), each (p,) or (m, p); by default
+    the relation's bounds for the whole data set)."""
+    x = np.asarray(energy, dtype=float)
+    y = np.asarray(barrier, dtype=float)
+    lo, hi = relation.bounds(x, y) if bounds is None else bounds
+    w = np.atleast_2d(np.asarray(weights, dtype=float))
+    start = interior(np.broadcast_to(np.asarray(theta0, dtype=float), (w.shape[0], relation.n_params)), lo, hi)
+    theta, _, _ = lm_solve(relation, x, y, w, start, lo, hi, max_iter=max_iter, tol=tol)
     return theta
+
+
+def fit_subsets(relation: Relation, energy, barrier, weights, *, max_iter: int = 200,
+                tol: float = 1e-10) -> SubsetFits:
+    """Best fit of ``relation`` to each subset (row of ``weights``, zero = left out).
+
+    Each subset's bounds and starting points come from its own members only; every start
+    of every subset is refined in one vectorised solve and the lowest cost per subset wins.
+    """
+    x = np.asarray(energy, dtype=float)
+    y = np.asarray(barrier, dtype=float)
+    w = np.atleast_2d(np.asarray(weights, dtype=float))
+    m, p = w.shape[0], relation.n_params
+    owner, starts, lows, highs = [], [], [], []
+    bounds_of = np.empty((m, 2, p))
+    for k in range(m):
+        keep = w[k] > 0
+        lo, hi = relation.bounds(x[keep], y[keep])
+        bounds_of[k] = lo, hi
+        for s in relation.starts(x[keep], y[keep]):
+            owner.append(k)
+            starts.append(interior(s, lo, hi))
+            lows.append(lo)
+            highs.append(hi)
+    owner = np.asarray(owner)
+    theta, cost, conv = lm_solve(relation, x, y, w[owner], np.asarray(starts), np.asarray(lows),
+                                 np.asarray(highs), max_iter=max_iter, tol=tol)
+    order = np.lexsort((cost, owner))
+    first = order[np.r_[True, owner[order][1:] != owner[order][:-1]]]  # lowest cost per subset
+    best = theta[first]
+    return SubsetFits(theta=best, cost=cost[first], converged=conv[first],
+                      at_bound=_at_bound(best, bounds_of[:, 0], bounds_of[:, 1]))
+
+
+def loo_weights(n: int) -> np.ndarray:
+    """(n, n) weights of exact leave-one-out: row i leaves member i out."""
+    return 1.0 - np.eye(n)

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..relations import RELATIONS, get_relation
-from .batch import refit_weighted
+from .batch import fit_subsets, loo_weights
 from .fit import FitError, RelationFit, check_pairs, fit_relation
 
 BEST_BY = "loo_rmse"
@@ -57,16 +57,16 @@ def information_criteria(rss: float, n: int, n_params: int) -> tuple[float, floa
 
 
 def loo_predictions(fit: RelationFit, energy, barrier) -> np.ndarray:
-    """Exact leave-one-out predictions: member i predicted by the fit without member i."""
+    """Exact leave-one-out predictions: member i predicted by the relation refitted without
+    member i, from starting points computed without it (:func:`.batch.fit_subsets`)."""
     x, y = check_pairs(energy, barrier, min_n=fit.n_params + 2)
     if fit.loss == "linear":
-        weights = 1.0 - np.eye(x.size)
-        thetas = refit_weighted(fit.relation, x, y, weights, fit.params)
+        thetas = fit_subsets(fit.relation, x, y, loo_weights(x.size)).theta
         return np.einsum("ii->i", fit.relation.barrier(x, thetas))
     out = np.empty(x.size)
     for i in range(x.size):
         keep = np.arange(x.size) != i
-        sub = fit_relation(fit.relation, x[keep], y[keep], loss=fit.loss, x0=fit.params)
+        sub = fit_relation(fit.relation, x[keep], y[keep], loss=fit.loss)
         out[i] = sub.predict(x[i:i + 1])[0]
     return out
 

@@ -1,15 +1,11 @@
-"""Fitting one relation to (reaction energy, barrier) pairs, with honest intervals.
+"""Fitting one relation to (reaction energy, barrier) pairs by bounded least squares.
 
-One job per function:
-
-- :func:`fit_relation` — bounded least squares (``scipy.optimize.least_squares``) with the
-  relation's analytic Jacobian, from every data-driven start the relation offers;
-- :func:`wald_intervals` — θ̂ ± t·SE from the Jacobian covariance (exact for the line);
-- :func:`profile_intervals` — profile-likelihood (profile-t) intervals, D. M. Bates,
-  D. G. Watts, *Nonlinear Regression Analysis and Its Applications*, Wiley 1988, ch. 6;
-- :func:`bootstrap_intervals` — case-resampling percentile intervals (B. Efron,
-  R. J. Tibshirani, *An Introduction to the Bootstrap*, Chapman & Hall 1993);
-- :func:`correlation_matrix` — from a covariance matrix.
+:func:`fit_relation` refines every data-driven start the relation offers in one vectorised
+Levenberg–Marquardt solve (:mod:`.batch`) and polishes the best with
+``scipy.optimize.least_squares`` (trust-region reflective, analytic Jacobian). Parameters
+that end on their search bound are named: the data do not pin them, and the fit says so
+instead of spending thousands of evaluations chasing them. Robust losses (soft-L1, Huber,
+Cauchy) go straight to ``least_squares``, one start at a time.
 
 All energies are kcal/mol.
 """
@@ -19,9 +15,22 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import optimize, stats
+from scipy import optimize
 
 from ..relations.base import Relation
+from .batch import interior, lm_solve
+
+LOSSES = ("linear", "soft_l1", "huber", "cauchy")
+#: The losses as barrierscope's options name them → scipy's names.
+LOSS_NAMES = {"squared": "linear", "soft": "soft_l1", "huber": "huber", "cauchy": "cauchy"}
+
+
+def loss_name(option: str) -> str:
+    """scipy's name of a ``--loss`` choice (squared, soft, huber, cauchy)."""
+    key = str(option).strip().lower()
+    if key not in LOSS_NAMES:
+        raise ValueError(f"unknown loss {option!r}; valid choices: {', '.join(LOSS_NAMES)}")
+    return LOSS_NAMES[key]
 
 
 class FitError(ValueError):
@@ -40,7 +49,6 @@ class RelationFit:
     loss: str = "linear"
     success: bool = True
     at_bound: tuple[str, ...] = ()
-    message: str = ""
     residuals: np.ndarray = field(default_factory=lambda: np.zeros(0))
 
     @property
@@ -85,10 +93,9 @@ def check_pairs(energy, barrier, min_n: int = 2):
     return x, y
 
 
-def _covariance(jac: np.ndarray, sigma2: float) -> np.ndarray:
+def covariance(jac: np.ndarray, sigma2: float) -> np.ndarray:
     """σ²·(JᵀJ)⁻¹ via a pseudo-inverse, so a rank-deficient design gives large, not NaN, entries."""
-    jtj = jac.T @ jac
-    return sigma2 * np.linalg.pinv(jtj, rcond=1e-12, hermitian=True)
+    return sigma2 * np.linalg.pinv(jac.T @ jac, rcond=1e-12, hermitian=True)
 
 
 def _robust_sigma2(residuals: np.ndarray, dof: int, loss: str) -> float:
@@ -101,13 +108,11 @@ def _robust_sigma2(residuals: np.ndarray, dof: int, loss: str) -> float:
     return mad * mad
 
 
-def interior(start, lo, hi) -> np.ndarray:
-    """``start`` clipped strictly inside finite bounds (least_squares refuses a start on a bound)."""
-    x = np.clip(np.asarray(start, dtype=float), lo, hi)
-    pad_lo = np.where(np.isfinite(lo), 1e-9 * (1 + np.abs(np.nan_to_num(lo))), 0.0)
-    pad_hi = np.where(np.isfinite(hi), 1e-9 * (1 + np.abs(np.nan_to_num(hi))), 0.0)
-    x = np.where(x <= lo, lo + pad_lo, x)
-    return np.where(x >= hi, hi - pad_hi, x)
+def _least_squares(relation, x, y, start, lo, hi, loss, f_scale, max_nfev):
+    return optimize.least_squares(lambda t: relation.barrier(x, t) - y, interior(start, lo, hi),
+                                  jac=lambda t: relation.jacobian(x, t), bounds=(lo, hi), loss=loss,
+                                  f_scale=f_scale, method="trf", x_scale="jac", xtol=1e-10, ftol=1e-10,
+                                  gtol=1e-10, max_nfev=max_nfev)
 
 
 def fit_relation(relation: Relation, energy, barrier, *, loss: str = "linear", f_scale: float = 1.0,
@@ -122,191 +127,40 @@ def fit_relation(relation: Relation, energy, barrier, *, loss: str = "linear", f
         ``f_scale`` (kcal/mol) the residual size where they start to down-weight.
     x0 : array (p,), optional
         One starting point; by default every start from ``relation.starts`` is tried.
+    bounds : (lo, hi), optional
+        Parameter bounds; by default ``relation.bounds`` for these data.
     """
-    valid_losses = ("linear", "soft_l1", "huber", "cauchy", "arctan")
-    if loss not in valid_losses:
-        raise ValueError(f"unknown loss {loss!r}; valid choices: {', '.join(valid_losses)}")
+    if loss not in LOSSES:
+        raise ValueError(f"unknown loss {loss!r}; valid choices: {', '.join(LOSSES)}")
     x, y = check_pairs(energy, barrier, min_n=relation.n_params + 1)
-    lo, hi = relation.bounds(x, y) if bounds is None else bounds
+    lo, hi = relation.bounds(x, y) if bounds is None else (np.asarray(bounds[0], float), np.asarray(bounds[1], float))
     starts = [np.asarray(x0, dtype=float)] if x0 is not None else relation.starts(x, y)
-
-    def residual(theta):
-        return relation.barrier(x, theta) - y
-
-    def jac(theta):
-        return relation.jacobian(x, theta)
-
-    best = None
-    for start in starts:
-        start = interior(start, lo, hi)
+    starts = np.array([interior(s, lo, hi) for s in starts])
+    p = relation.n_params
+    if loss == "linear":
+        thetas, costs, _ = lm_solve(relation, x, y, np.ones((len(starts), x.size)), starts, lo, hi)
+        best = thetas[int(np.argmin(costs))]
         try:
-            res = optimize.least_squares(residual, start, jac=jac, bounds=(lo, hi), loss=loss,
-                                         f_scale=f_scale, method="trf", x_scale="jac",
-                                         xtol=1e-12, ftol=1e-12, gtol=1e-12, max_nfev=2000)
+            res = _least_squares(relation, x, y, best, lo, hi, loss, f_scale, 50 * p)
+            theta, success = (res.x, bool(res.success)) if res.cost <= 0.5 * np.min(costs) + 1e-12 else (best, True)
         except (ValueError, np.linalg.LinAlgError):
-            continue
-        if best is None or res.cost < best.cost:
-            best = res
-    if best is None:
-        raise FitError(f"the {relation.label} fit failed from every starting point")
-
-    theta = best.x
-    r = residual(theta)
-    rss = float(r @ r)
-    dof = x.size - relation.n_params
-    cov = _covariance(jac(theta), _robust_sigma2(r, dof, loss))
+            theta, success = best, True
+    else:
+        results = []
+        for start in starts:
+            try:
+                results.append(_least_squares(relation, x, y, start, lo, hi, loss, f_scale, 200 * p))
+            except (ValueError, np.linalg.LinAlgError):
+                continue
+        if not results:
+            raise FitError(f"the {relation.label} fit failed from every starting point")
+        res = min(results, key=lambda r: r.cost)
+        theta, success = res.x, bool(res.success)
+    r = relation.barrier(x, theta) - y
+    dof = x.size - p
+    cov = covariance(relation.jacobian(x, theta), _robust_sigma2(r, dof, loss))
     span = np.where(np.isfinite(hi - lo), hi - lo, 1.0 + np.abs(theta))
     near = (np.isfinite(lo) & (theta - lo <= 1e-6 * span)) | (np.isfinite(hi) & (hi - theta <= 1e-6 * span))
     at_bound = tuple(n for n, b in zip(relation.param_names, near) if b)
-    message = ""
-    if at_bound:
-        message = (f"{', '.join(at_bound)} at the edge of the search range: the data do not pin "
-                   f"{'it' if len(at_bound) == 1 else 'them'}")
-    return RelationFit(relation=relation, params=theta, cov=cov, rss=rss, n=int(x.size), loss=loss,
-                       success=bool(best.success), at_bound=at_bound, message=message, residuals=r)
-
-
-def t_quantile(level: float, dof: int) -> float:
-    """Two-sided Student-t quantile for a central interval of probability ``level``."""
-    if dof <= 0:
-        return float("nan")
-    return float(stats.t.ppf(0.5 + level / 2.0, dof))
-
-
-def wald_intervals(fit: RelationFit, level: float = 0.95) -> dict[str, tuple[float, float]]:
-    """θ̂ ± t·SE intervals (kcal/mol or dimensionless, as the parameter)."""
-    t = t_quantile(level, fit.dof)
-    return {name: (float(v - t * s), float(v + t * s))
-            for name, v, s in zip(fit.relation.param_names, fit.params, fit.stderr)}
-
-
-def correlation_matrix(cov: np.ndarray) -> np.ndarray:
-    """Correlation matrix from a covariance matrix (NaN where a variance is zero)."""
-    sd = np.sqrt(np.clip(np.diag(cov), 0.0, np.inf))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        corr = cov / np.outer(sd, sd)
-    np.fill_diagonal(corr, 1.0)
-    return np.clip(corr, -1.0, 1.0)
-
-
-@dataclass
-class ProfileInterval:
-    low: float
-    high: float
-    low_open: bool   # True when the profile never left the interval before the search bound
-    high_open: bool
-
-    @property
-    def closed(self) -> bool:
-        return not (self.low_open or self.high_open)
-
-
-def _profile_rss(relation: Relation, x, y, j: int, value: float, theta_start, lo, hi):
-    """Minimum RSS with parameter j fixed at ``value``; returns (rss, theta)."""
-    free = [k for k in range(relation.n_params) if k != j]
-
-    def full(sub):
-        theta = np.empty(relation.n_params)
-        theta[j] = value
-        theta[free] = sub
-        return theta
-
-    def residual(sub):
-        return relation.barrier(x, full(sub)) - y
-
-    def jac(sub):
-        return relation.jacobian(x, full(sub))[:, free]
-
-    start = interior(np.asarray(theta_start, dtype=float)[free], lo[free], hi[free])
-    res = optimize.least_squares(residual, start, jac=jac, bounds=(lo[free], hi[free]),
-                                 method="trf", x_scale="jac", xtol=1e-10, ftol=1e-10, gtol=1e-10,
-                                 max_nfev=500)
-    return float(2.0 * res.cost), full(res.x)
-
-
-def profile_intervals(fit: RelationFit, energy, barrier, level: float = 0.95,
-                      log_scale: tuple[str, ...] = ("width",)) -> dict[str, ProfileInterval]:
-    """Profile-t intervals for every parameter of a least-squares fit.
-
-    The interval for θ_j is where τ(v)² = (S(v) − Ŝ)/s² ≤ t²_{n−p}, with S(v) the residual
-    sum of squares minimised over the other parameters at θ_j = v and s² = Ŝ/(n − p)
-    (Bates & Watts 1988, §6.1). Parameters named in ``log_scale`` are searched in log space.
-    An end that reaches the search bound before τ² reaches t² is marked open.
-    """
-    relation = fit.relation
-    x, y = check_pairs(energy, barrier, min_n=relation.n_params + 1)
-    lo, hi = relation.bounds(x, y)
-    s2 = fit.rss / fit.dof if fit.dof > 0 else float("nan")
-    tcrit2 = t_quantile(level, fit.dof) ** 2
-    out: dict[str, ProfileInterval] = {}
-    if not np.isfinite(s2) or s2 <= 0:
-        for name, v in zip(relation.param_names, fit.params):
-            out[name] = ProfileInterval(float(v), float(v), True, True)
-        return out
-
-    for j, name in enumerate(relation.param_names):
-        use_log = name in log_scale and lo[j] > 0
-        fwd = np.log if use_log else (lambda v: v)
-        inv = np.exp if use_log else (lambda u: u)
-        u_hat = fwd(fit.params[j])
-        u_lo, u_hi = fwd(lo[j]), fwd(hi[j])
-        se = fit.stderr[j] / (fit.params[j] if use_log else 1.0)
-        step0 = float(np.clip(se if np.isfinite(se) and se > 0 else 0.1, 1e-4 * (1 + abs(u_hat)), None))
-        if use_log:
-            step0 = min(step0, 1.0)
-
-        ends = []
-        for direction in (-1.0, 1.0):
-            edge = u_lo if direction < 0 else u_hi
-            theta_prev = fit.params.copy()
-            inside_u = u_hat
-            step = step0
-            found = None
-            while True:
-                u = inside_u + direction * step
-                hit_edge = (u <= edge) if direction < 0 else (u >= edge)
-                if hit_edge:
-                    u = edge
-                rss, theta_u = _profile_rss(relation, x, y, j, float(inv(u)), theta_prev, lo, hi)
-                g = (rss - fit.rss) / s2 - tcrit2
-                if g > 0:
-                    found = (inside_u, u, theta_prev)
-                    break
-                if hit_edge:
-                    break
-                inside_u, theta_prev = u, theta_u
-                step *= 2.0
-            if found is None:
-                ends.append((float(inv(edge)), True))
-                continue
-            a, b, theta_a = found
-            cache = {"theta": theta_a}
-
-            def g_of(u):
-                rss_u, th = _profile_rss(relation, x, y, j, float(inv(u)), cache["theta"], lo, hi)
-                cache["theta"] = th
-                return (rss_u - fit.rss) / s2 - tcrit2
-
-            try:
-                root = optimize.brentq(g_of, a, b, xtol=1e-6 * (1 + abs(b)), rtol=1e-8, maxiter=60)
-            except ValueError:  # re-minimising at the inner point wobbled above the cut
-                root = a
-            ends.append((float(inv(root)), False))
-        (low, low_open), (high, high_open) = ends
-        out[name] = ProfileInterval(low, high, low_open, high_open)
-    return out
-
-
-def bootstrap_intervals(fit: RelationFit, energy, barrier, level: float = 0.95, n_boot: int = 1000,
-                        random_state: int | None = 0) -> dict[str, tuple[float, float]]:
-    """Case-resampling percentile intervals; each resample is refitted from θ̂."""
-    from .batch import refit_weighted
-
-    relation = fit.relation
-    x, y = check_pairs(energy, barrier, min_n=relation.n_params + 1)
-    rng = np.random.default_rng(random_state)
-    counts = rng.multinomial(x.size, np.full(x.size, 1.0 / x.size), size=int(n_boot)).astype(float)
-    thetas = refit_weighted(relation, x, y, counts, np.tile(fit.params, (counts.shape[0], 1)))
-    q = [(1 - level) / 2 * 100, (1 + level) / 2 * 100]
-    return {name: tuple(float(v) for v in np.percentile(thetas[:, k], q))
-            for k, name in enumerate(relation.param_names)}
+    return RelationFit(relation=relation, params=theta, cov=cov, rss=float(r @ r), n=int(x.size), loss=loss,
+                       success=success, at_bound=at_bound, residuals=r)

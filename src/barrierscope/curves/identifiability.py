@@ -17,7 +17,8 @@ import numpy as np
 from scipy import stats
 
 from ..relations import LinearRelation
-from .fit import ProfileInterval, RelationFit, fit_relation, t_quantile
+from .fit import RelationFit, fit_relation
+from .intervals import ProfileInterval, t_quantile
 
 
 @dataclass
@@ -33,40 +34,27 @@ class Identifiability:
     tangent_alpha: float
     tangent_alpha_ci95: tuple[float, float]
 
-    def describe(self, unit: str = "kcal/mol", factor: float = 1.0) -> str:
-        """The verdict in words; energies shown in ``unit`` (``factor`` converts that unit to kcal/mol)."""
-        span, width = self.span / factor, self.width / factor
-        if self.identifiable:
-            return (f"The curvature is determined: the members span {span:.3g} {unit}, "
-                    f"{self.span_over_width:.2g} times the fitted width W = {width:.3g} {unit} "
-                    f"(curve against line: F-test p = {self.curvature_p:.2g}).")
-        lo, hi = self.tangent_alpha_ci95
-        names = ", ".join(self.unpinned)
-        verb = "is" if len(self.unpinned) == 1 else "are"
-        return (f"The curvature is not determined: the reaction energies span only {span:.3g} {unit} "
-                f"and {names} {verb} not pinned (the 95 % interval runs to the search bound). What these "
-                f"data determine is the tangent at dE = {self.tangent_center / factor:.3g} {unit}: barrier "
-                f"{self.tangent_barrier / factor:.3g} {unit}, slope (Leffler α) {self.tangent_alpha:.3f} "
-                f"(95 %: {lo:.3f} to {hi:.3f}). Read F, M and W only after adding members further up- or "
-                f"downhill.")
-
-    @property
-    def message(self) -> str:
-        return self.describe()
-
-    def as_dict(self, unit: str = "kcal/mol", factor: float = 1.0) -> dict:
-        """JSON-ready verdict; energies divided by ``factor`` (into ``unit``)."""
+    def as_dict(self) -> dict:
+        """JSON-ready verdict (energies in kcal/mol); the words are written by the views."""
         return {
             "identifiable": self.identifiable,
-            "span": self.span / factor,
-            "width": self.width / factor,
+            "span": self.span,
+            "width": self.width,
             "span_over_width": self.span_over_width,
             "unpinned": list(self.unpinned),
             "curvature_p": self.curvature_p,
-            "tangent": {"center": self.tangent_center / factor, "barrier_at_center": self.tangent_barrier / factor,
+            "tangent": {"center": self.tangent_center, "barrier_at_center": self.tangent_barrier,
                         "alpha": self.tangent_alpha, "alpha_ci95": list(self.tangent_alpha_ci95)},
-            "message": self.describe(unit, factor),
         }
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "Identifiability":
+        t = d["tangent"]
+        return cls(identifiable=bool(d["identifiable"]), span=float(d["span"]), width=float(d["width"]),
+                   span_over_width=float(d["span_over_width"]), unpinned=tuple(d["unpinned"]),
+                   curvature_p=float(d["curvature_p"]), tangent_center=float(t["center"]),
+                   tangent_barrier=float(t["barrier_at_center"]), tangent_alpha=float(t["alpha"]),
+                   tangent_alpha_ci95=tuple(t["alpha_ci95"]))
 
 
 def assess_identifiability(fit: RelationFit, energy, barrier,

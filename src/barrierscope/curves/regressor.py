@@ -10,21 +10,14 @@ parameters' covariance (through the Jacobian), and the curve's own residual scat
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
 from sklearn.base import BaseEstimator, RegressorMixin
 from sklearn.utils.validation import check_is_fitted
 
 from ..relations import DEFAULT_RELATION, get_relation
 from .compare import compare_relations
-from .fit import (
-    bootstrap_intervals,
-    check_pairs,
-    correlation_matrix,
-    fit_relation,
-    profile_intervals,
-    wald_intervals,
-)
-from .identifiability import assess_identifiability
+from .fit import check_pairs, fit_relation, loss_name
+from .identifiability import Identifiability, assess_identifiability
+from .intervals import bootstrap_intervals, correlation_matrix, profile_intervals, t_quantile, wald_intervals
 
 INTERVAL_METHODS = ("profile", "wald", "bootstrap", "none")
 
@@ -48,8 +41,8 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
         ``"asymptotic"`` (default), ``"linear"``, ``"marcus"``, ``"agmon_levine"``,
         ``"rehm_weller"``, ``"marcus_nowork"``, or ``"auto"`` (lowest exact leave-one-out
         RMSE among the five compared relations).
-    loss : str
-        ``"linear"`` (least squares) or a robust loss of ``scipy.optimize.least_squares``.
+    loss : {"squared", "soft", "huber", "cauchy"}
+        ``"squared"`` is least squares; the others are robust losses (soft-L1, Huber, Cauchy).
     f_scale : float, kcal/mol
         Residual scale of the robust loss.
     intervals : {"profile", "wald", "bootstrap", "none"}
@@ -76,7 +69,7 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
     comparison_ : Comparison or None (relation="auto")
     """
 
-    def __init__(self, relation: str = DEFAULT_RELATION, loss: str = "linear", f_scale: float = 1.0,
+    def __init__(self, relation: str = DEFAULT_RELATION, loss: str = "squared", f_scale: float = 1.0,
                  intervals: str = "profile", n_bootstrap: int = 1000, level: float = 0.95,
                  random_state: int | None = 0):
         self.relation = relation
@@ -95,12 +88,12 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
         self.comparison_ = None
         name = self.relation
         if str(name).lower() == "auto":
-            self.comparison_ = compare_relations(x, yv, loss=self.loss)
+            self.comparison_ = compare_relations(x, yv, loss=loss_name(self.loss))
             if self.comparison_.best is None:
                 raise ValueError("no relation could be fitted to these data")
             name = self.comparison_.best
         relation = get_relation(name)
-        fit = fit_relation(relation, x, yv, loss=self.loss, f_scale=self.f_scale)
+        fit = fit_relation(relation, x, yv, loss=loss_name(self.loss), f_scale=self.f_scale)
         self.relation_ = relation
         self.fit_ = fit
         self.params_ = fit.params
@@ -113,7 +106,7 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
         self.ci_, self.ci_open_ = {}, {}
         profile = None
         method = self.intervals
-        if method == "profile" and self.loss != "linear":
+        if method == "profile" and self.loss != "squared":
             method = "wald"  # profile-t assumes least squares
         if method == "profile":
             profile = profile_intervals(fit, x, yv, level=self.level)
@@ -127,6 +120,12 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
         if relation.name == "asymptotic" and self.intervals != "none":
             self.identifiability_ = assess_identifiability(fit, x, yv, profile)
         return self
+
+    def __sklearn_tags__(self):
+        tags = super().__sklearn_tags__()
+        tags.input_tags.one_d_array = True   # reaction energies as (n,) or (n, 1), kcal/mol
+        tags.input_tags.two_d_array = True
+        return tags
 
     # -- prediction -------------------------------------------------------------------------
     def predict(self, X, return_std: bool = False, energy_std=None):
@@ -157,8 +156,7 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
 
     def interval_quantile(self, level: float) -> float:
         """Two-sided t quantile (dof of the curve fit) for a predictive interval."""
-        dof = max(int(self.dof_), 1)
-        return float(stats.t.ppf(0.5 + level / 2.0, dof))
+        return t_quantile(level, max(int(self.dof_), 1))
 
     def predict_interval(self, X, level: float = 0.90, energy_std=None):
         """(mean, low, high) of the barrier, kcal/mol, at coverage ``level``."""
@@ -203,7 +201,7 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
 
     @classmethod
     def from_dict(cls, d: dict) -> "CurveRegressor":
-        self = cls(relation=d.get("requested_relation", d["relation"]), loss=d.get("loss", "linear"),
+        self = cls(relation=d.get("requested_relation", d["relation"]), loss=d.get("loss", "squared"),
                    intervals=d.get("intervals", "none"))
         self.relation_ = get_relation(d["relation"])
         self.params_ = np.asarray(d["theta"], dtype=float)
@@ -215,7 +213,8 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
         self.correlation_ = np.asarray(d["correlation"], dtype=float)
         self.ci_ = {k: tuple(v) for k, v in d.get("ci95", {}).items()}
         self.ci_open_ = {k: tuple(v) for k, v in d.get("ci95_open", {}).items()}
-        self.identifiability_ = None
-        self.identifiability_dict_ = d.get("identifiability")
+        ident = d.get("identifiability")
+        self.identifiability_ = Identifiability.from_dict(ident) if ident else None
+        self.fit_ = None
         self.comparison_ = None
         return self

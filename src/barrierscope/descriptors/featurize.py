@@ -37,6 +37,12 @@ class FeatureBlock:
     def ok(self) -> np.ndarray:
         return self.status == OK
 
+    @property
+    def keys(self) -> list[str]:
+        """Each row's identity: its canonical units joined by '|' ("" where the row failed)."""
+        cols = [self.units[p] for p in self.units]
+        return ["|".join(str(c[i]) for c in cols) if self.status[i] == OK else "" for i in range(len(self.status))]
+
 
 #: The semi-empirical reaction energy column (kcal/mol): products minus reactants.
 REACTION_ENERGY_XTB = "reaction_energy_xtb"

@@ -53,6 +53,11 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
         self.n_train_ = int(y.size)
         return self
 
+    def __sklearn_tags__(self):
+        tags = super().__sklearn_tags__()
+        tags.input_tags.allow_nan = True   # missing descriptors are imputed inside fit
+        return tags
+
     def transform(self, X) -> np.ndarray:
         """The standardised descriptors the learner sees."""
         check_is_fitted(self, "state_")
@@ -60,7 +65,9 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
         return self.preprocessor_.transform(A)
 
     def predict(self, X, return_std: bool = False):
-        mean, std = predict_state(self.state_, self.transform(X))
+        """Prediction in y's unit; with ``return_std`` also its predictive standard deviation."""
+        Z = self.transform(X)
+        mean, std = predict_state(self.state_, Z)
         return (mean, std) if return_std else mean
 
     def loo_predictions(self, y) -> np.ndarray | None:
@@ -71,7 +78,8 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
 
     def as_dict(self) -> dict:
         check_is_fitted(self, "state_")
-        state = {k: v for k, v in self.state_.items() if not k.startswith("_") and k != "loo_residuals"}
+        state = {k: (v.tolist() if isinstance(v, np.ndarray) else v) for k, v in self.state_.items()
+                 if not k.startswith("_") and k != "loo_residuals"}
         return {"learner": self.learner, "random_state": self.random_state, "n_train": self.n_train_,
                 "preprocess": self.preprocessor_.as_dict(), "state": state}
 
@@ -82,8 +90,3 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
         self.state_ = dict(d["state"])
         self.n_train_ = int(d["n_train"])
         return self
-
-
-#: The energy stage and the black-box baseline are the same estimator on different targets.
-EnergyRegressor = DescriptorRegressor
-DirectRegressor = DescriptorRegressor

@@ -55,28 +55,23 @@ def _ridge_fit(X: np.ndarray, y: np.ndarray) -> dict:
     X = X - x_mean  # the intercept is not penalised: centre (standardised input is already centred)
     U, s, Vt = np.linalg.svd(X, full_matrices=False)
     Uy = U.T @ yc
-    best = None
-    for alpha in RIDGE_ALPHAS:
-        d = s ** 2 / (s ** 2 + alpha)
-        fitted = U @ (d * Uy)
-        h = (U ** 2) @ d + 1.0 / n
-        loo = (yc - fitted) / (1.0 - h)
-        mse = float(np.mean(loo ** 2))
-        if best is None or mse < best[0] - 1e-12 * (1 + mse):
-            best = (mse, alpha, d, fitted, loo)
-    mse, alpha, d, fitted, loo = best
+    # Every penalty at once: shrink factors d (penalties × components), fitted values, leverages.
+    d = s ** 2 / (s ** 2 + RIDGE_ALPHAS[:, None])
+    fitted = (d * Uy) @ U.T
+    h = d @ (U ** 2).T + 1.0 / n
+    loo_all = (yc - fitted) / (1.0 - h)
+    mses = np.mean(loo_all ** 2, axis=1)
+    best = int(np.argmin(mses))
+    alpha, mse, loo = float(RIDGE_ALPHAS[best]), float(mses[best]), loo_all[best]
     coef = Vt.T @ (s / (s ** 2 + alpha) * Uy)
     # Noise scale from the leave-one-out errors, so that σ(1 + h) matches them at the training
     # members: the in-sample residual variance on effective degrees of freedom is unstable when
     # the penalty is small and descriptors are many.
-    h_train = (U ** 2) @ d + 1.0 / n
-    s2 = float(mse / (1.0 + np.mean(h_train)))
+    s2 = float(mse / (1.0 + np.mean(h[best])))
     # h(x) = 1/n + Σ_j (x·v_j)² s_j² / (s_j² + α)²: variance of the fitted value in units of s².
     shrink = s / (s ** 2 + alpha)
-    return {"kind": "ridge", "coef": coef.tolist(), "intercept": y_mean, "x_mean": x_mean.tolist(),
-            "alpha": float(alpha), "s2": s2,
-            "vt": Vt.tolist(), "shrink": shrink.tolist(), "n": n, "loo_rmse": float(np.sqrt(mse)),
-            "loo_residuals": loo.tolist()}
+    return {"kind": "ridge", "coef": coef, "intercept": y_mean, "x_mean": x_mean, "alpha": alpha, "s2": s2,
+            "vt": Vt, "shrink": shrink, "n": n, "loo_rmse": float(np.sqrt(mse)), "loo_residuals": loo}
 
 
 def _ridge_predict(state: dict, X: np.ndarray):

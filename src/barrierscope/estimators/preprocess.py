@@ -1,13 +1,13 @@
 """Descriptor matrix → learner input: impute, drop constant columns, standardise.
 
-Fitted on training members only (inside every cross-validation fold), stored as plain
-numbers. Missing values are imputed with the training median and counted, never silently
-zero; a column that is missing for every training member, or constant, is dropped and
-named in the report.
+Fitted on training members only (inside every validation fold), stored as plain numbers.
+Missing values are imputed with the training median and counted, never silently zero; a
+column that is missing for every training member, or constant, is dropped and named.
 """
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -26,25 +26,27 @@ class Preprocessor:
     @classmethod
     def fit(cls, X: np.ndarray, columns: list[str]) -> "Preprocessor":
         X = np.asarray(X, dtype=float)
+        ok = np.isfinite(X)
+        if ok.all():
+            med = np.median(X, axis=0)
+        else:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)  # all-missing columns: handled below
+                med = np.nanmedian(np.where(ok, X, np.nan), axis=0)
+        filled = np.where(ok, X, med)
+        sd = filled.std(axis=0) if X.shape[0] else np.zeros(X.shape[1])
+        missing_all = ~ok.any(axis=0)
+        constant = ~missing_all & (sd <= 1e-12 * (1.0 + np.abs(np.nan_to_num(med))))
         self = cls(columns=list(columns))
-        for j, name in enumerate(columns):
-            col = X[:, j]
-            ok = np.isfinite(col)
-            if not ok.any():
-                self.dropped[name] = "missing for every training member"
-                continue
-            med = float(np.median(col[ok]))
-            filled = np.where(ok, col, med)
-            sd = float(np.std(filled))
-            if sd <= 1e-12 * (1.0 + abs(med)):
-                self.dropped[name] = "the same for every training member"
-                continue
-            if (~ok).any():
-                self.imputed[name] = int((~ok).sum())
-            self.keep.append(j)
-            self.median.append(med)
-            self.mean.append(float(np.mean(filled)))
-            self.scale.append(sd)
+        self.dropped = {columns[j]: "missing for every training member" for j in np.flatnonzero(missing_all)}
+        self.dropped.update({columns[j]: "the same for every training member" for j in np.flatnonzero(constant)})
+        keep = np.flatnonzero(~missing_all & ~constant)
+        n_missing = (~ok).sum(axis=0)
+        self.imputed = {columns[j]: int(n_missing[j]) for j in keep if n_missing[j]}
+        self.keep = keep.tolist()
+        self.median = med[keep].tolist()
+        self.mean = filled[:, keep].mean(axis=0).tolist() if X.shape[0] else []
+        self.scale = sd[keep].tolist()
         return self
 
     @property
@@ -53,17 +55,15 @@ class Preprocessor:
 
     def transform(self, X: np.ndarray) -> np.ndarray:
         X = np.asarray(X, dtype=float)
-        if X.shape[1] != len(self.columns):
-            raise ValueError(f"expected {len(self.columns)} descriptor columns, got {X.shape[1]}")
-        Z = X[:, self.keep] if self.keep else np.zeros((X.shape[0], 0))
-        med = np.asarray(self.median)
-        Z = np.where(np.isfinite(Z), Z, med)
+        if X.ndim != 2 or X.shape[1] != len(self.columns):
+            raise ValueError(f"expected {len(self.columns)} descriptor columns, got shape {X.shape}")
+        Z = X[:, self.keep]
+        Z = np.where(np.isfinite(Z), Z, np.asarray(self.median))
         return (Z - np.asarray(self.mean)) / np.asarray(self.scale)
 
     def missing_mask(self, X: np.ndarray) -> np.ndarray:
         """Rows × kept columns that were missing before imputation."""
-        X = np.asarray(X, dtype=float)
-        return ~np.isfinite(X[:, self.keep]) if self.keep else np.zeros((X.shape[0], 0), dtype=bool)
+        return ~np.isfinite(np.asarray(X, dtype=float)[:, self.keep])
 
     def as_dict(self) -> dict:
         return {"columns": self.columns, "keep": self.keep, "median": self.median, "mean": self.mean,

@@ -21,20 +21,20 @@ from ..errors import ModelFileError
 from .atomic import write_text_atomic
 
 FORMAT = "barrierscope-model"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 
-# Required fields of schema version 1: name → type (dict for nested requirements).
+# Required fields of schema version 2: name → type (dict for nested requirements).
 _SCHEMA = {
     "input": {"mode": str, "columns": list, "positions": list},
     "tiers": list, "features": list, "extra_descriptors": list, "learner": str, "relation": str,
     "units": str, "energy_kind": str, "energy_column": str, "barrier_column": str, "level": float,
     "primary_route": str,
-    "curve": {"relation": str, "theta": list, "cov": list, "sigma": float, "dof": int, "n_train": int,
-              "energy_range": list},
+    "two_stage": {"params": dict, "curve": {"relation": str, "theta": list, "cov": list, "sigma": float,
+                                            "dof": int, "n_train": int, "energy_range": list}},
     "domain": {"k": int, "quantile": float, "energy_range": list},
     "training": {"n": int}, "validation": dict,
 }
-_OPTIONAL_DICTS = ("energy_stage", "hybrid", "direct")
+_OPTIONAL_DICTS = ("hybrid", "direct")
 
 
 def canonical_json(obj) -> str:
@@ -116,8 +116,8 @@ def loads(text: str, source: str = "model file") -> dict:
     for key in _OPTIONAL_DICTS:
         if content.get(key) is not None and not isinstance(content[key], dict):
             raise ModelFileError(f"content.{key} should be an object or null")
-    if content["input"]["mode"] != "none" and not isinstance(content.get("energy_stage"), dict):
-        raise ModelFileError("content.energy_stage is required for a model with structures")
+    if content["input"]["mode"] != "none" and not isinstance(content["two_stage"].get("energy_stage"), dict):
+        raise ModelFileError("content.two_stage.energy_stage is required for a model with structures")
     return content
 
 

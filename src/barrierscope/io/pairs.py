@@ -46,6 +46,7 @@ class Pairs:
     barrier: np.ndarray
     keep: np.ndarray                       # mask over the input rows that became members
     warnings: list[str] = field(default_factory=list)
+    keys: list[str] | None = None          # the members' identity keys (structures, else ids)
     skipped: list[RowProblem] = field(default_factory=list)
 
     @property
@@ -147,8 +148,8 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
     if hint:
         warnings.append(hint)
     return Pairs(ids=[ids.iloc[i] for i in np.flatnonzero(ok)], rows=rows[ok], energy=values["energy"][ok],
-                 barrier=values["barrier"][ok], keep=ok, warnings=warnings,
-                 skipped=[p for p in problems])
+                 barrier=values["barrier"][ok], keep=ok, warnings=warnings, skipped=list(problems),
+                 keys=None if keys is None else [str(keys.iloc[i]) for i in np.flatnonzero(ok)])
 
 
 def require_members(n: int, needed: int, what: str) -> None:

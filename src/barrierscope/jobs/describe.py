@@ -36,3 +36,19 @@ def describe_file(path, spec: InputSpec, engine: DescriptorEngine, id_column: st
     parts = [describe_chunk(c, str(path), spec, engine, id_column, max_atoms)
              for c in iter_table(path, chunk_size=chunk_size)]
     return pd.concat(parts, ignore_index=True)
+
+
+def run_describe(data, output, structure, tiers: str, id_column=None, cache_dir=None, max_atoms: int = 200,
+                 workers: int = 1, scheduler=None, xtb_level: str = "sp", solvent=None) -> pd.DataFrame:
+    """Describe ``data`` into ``output`` (atomically); returns the table written."""
+    from ..io.tables import write_table
+    from .setup import descriptor_engine, structure_spec
+
+    spec = structure_spec(*structure)
+    if spec.mode == "none":
+        raise ValueError("say where the structures are: --substituents, --molecule (with or without --core), "
+                         "--reaction, or --template with --substituents")
+    with descriptor_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent) as engine:
+        table = describe_file(data, spec, engine, id_column=id_column, max_atoms=max_atoms)
+    write_table(table, output)
+    return table

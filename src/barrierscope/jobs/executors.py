@@ -98,3 +98,55 @@ def make_executor(workers: int = 1, scheduler: str | None = None):
     if workers and workers > 1:
         return ProcessExecutor(workers)
     return SerialExecutor()
+
+
+def ordered_results(executor, fn, tasks, window: int):
+    """Results of ``fn`` over ``tasks`` in order, with at most ``window`` tasks in flight."""
+    submit = getattr(executor, "submit", None)
+    if submit is None:
+        for t in tasks:
+            yield fn(t)
+        return
+    from collections import deque
+
+    pending = deque()
+    for t in tasks:
+        pending.append(submit(fn, t))
+        if len(pending) >= window:
+            yield pending.popleft().result()
+    while pending:
+        yield pending.popleft().result()
+
+
+# One model and one descriptor engine per worker process, rebuilt only when they change.
+_MODELS: dict[str, object] = {}
+_ENGINES: dict[tuple, object] = {}
+
+
+def cached_model(content: dict, key: str):
+    """The :class:`~.model.FamilyModel` of a model file's content (``key``: its checksum)."""
+    model = _MODELS.get(key)
+    if model is None:
+        from .model import FamilyModel
+
+        model = FamilyModel.from_dict(content)
+        _MODELS.clear()
+        _MODELS[key] = model
+    return model
+
+
+def cached_engine(model, cache_dir):
+    """The descriptor engine that describes library rows the way ``model`` was trained."""
+    from ..descriptors.cache import DescriptorCache
+    from ..descriptors.tiers import DescriptorEngine
+    from ..semiempirical.species import XtbSettings
+
+    xtb = model.xtb or {}
+    key = (model.tiers, str(cache_dir), xtb.get("level"), xtb.get("solvent"))
+    engine = _ENGINES.get(key)
+    if engine is None:
+        settings = XtbSettings(level=xtb.get("level", "sp"), solvent=xtb.get("solvent"))
+        engine = DescriptorEngine(model.tiers, DescriptorCache(cache_dir), xtb_settings=settings)
+        _ENGINES.clear()
+        _ENGINES[key] = engine
+    return engine

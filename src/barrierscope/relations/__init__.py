@@ -10,6 +10,7 @@ from __future__ import annotations
 from .agmon_levine import AgmonLevineRelation
 from .asymptotic import AsymptoticRelation
 from .base import Relation
+from .blowers_masel import BlowersMaselRelation
 from .linear import LinearRelation
 from .marcus import MarcusNoWorkRelation, MarcusRelation
 from .rehm_weller import RehmWellerRelation
@@ -17,7 +18,8 @@ from .rehm_weller import RehmWellerRelation
 #: The relations compared by default, in display order.
 RELATIONS: dict[str, type[Relation]] = {
     cls.name: cls
-    for cls in (LinearRelation, MarcusRelation, AgmonLevineRelation, RehmWellerRelation, AsymptoticRelation)
+    for cls in (LinearRelation, MarcusRelation, AgmonLevineRelation, RehmWellerRelation, BlowersMaselRelation,
+                AsymptoticRelation)
 }
 #: Relations that can be asked for by name but are not in the default comparison.
 EXTRA_RELATIONS: dict[str, type[Relation]] = {MarcusNoWorkRelation.name: MarcusNoWorkRelation}
@@ -38,5 +40,5 @@ def get_relation(name: str) -> Relation:
 __all__ = [
     "Relation", "RELATIONS", "EXTRA_RELATIONS", "DEFAULT_RELATION", "get_relation",
     "LinearRelation", "MarcusRelation", "MarcusNoWorkRelation", "AgmonLevineRelation",
-    "RehmWellerRelation", "AsymptoticRelation",
+    "RehmWellerRelation", "BlowersMaselRelation", "AsymptoticRelation",
 ]

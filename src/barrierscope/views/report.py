@@ -1,216 +1,167 @@
 """One self-contained HTML report: no scripts, no external fonts, styles or images.
 
-Figures are embedded as PNG data URIs. Every string that came from the user (file and
-column names, ids, SMILES, messages quoting them) passes through :func:`html.escape`.
+Sections (each where it applies): the verdict; validation in every regime; the members
+behind large or unusual errors; the curve with every relation, its parameters and the
+identifiability verdict; Leffler α; leave-one-out parity and residuals; what drives the
+reaction energy; the applicability domain; a screened library; next calculations; warnings
+and notes; methods and sources. Every energy is shown in the model's unit.
 """
 
 from __future__ import annotations
 
-import base64
-import html
 from datetime import datetime, timezone
 from pathlib import Path
 
 import numpy as np
 
 from .. import __version__
-from ..units import factor_to_kcal
-from ..validation.loo import ROUTE_LABELS
-from . import figures
+from . import figures as fg
 from .cautions import CAUTION
-
-E = html.escape
-
-STYLE = """
-body { font-family: system-ui, -apple-system, 'Segoe UI', Helvetica, Arial, sans-serif; margin: 2em auto;
-       max-width: 980px; color: #111; line-height: 1.45; padding: 0 1em; }
-h1 { font-size: 1.6em; margin-bottom: 0.2em; } h2 { font-size: 1.25em; border-bottom: 1px solid #bbb; margin-top: 1.8em; }
-table { border-collapse: collapse; margin: 0.6em 0; font-size: 0.92em; }
-th, td { border: 1px solid #bbb; padding: 0.25em 0.6em; text-align: right; }
-th:first-child, td:first-child { text-align: left; }
-thead th { background: #eee; }
-.verdict { border-left: 6px solid #0072B2; background: #f2f7fb; padding: 0.7em 1em; margin: 1em 0; }
-.caution { border-left: 6px solid #D55E00; background: #fdf3ec; padding: 0.7em 1em; margin: 1em 0; }
-.muted { color: #555; font-size: 0.9em; }
-figure { margin: 1em 0; } figcaption { font-size: 0.88em; color: #333; }
-img { max-width: 100%; height: auto; border: 1px solid #ddd; }
-code { font-size: 0.92em; background: #f4f4f4; padding: 0 0.2em; }
-"""
+from .curve_text import KINDS, identifiability_text
+from .fit_text import REGIME_LABELS, ROUTE_LABELS
+from .html import STYLE, esc, figure, num, table
+from .units import in_unit, to_unit
+from .verdict import verdict_text
 
 
-def _num(v, digits: int = 3) -> str:
-    if v is None or (isinstance(v, float) and not np.isfinite(v)):
-        return "—"
-    if isinstance(v, (int, np.integer)):
-        return str(int(v))
-    return f"{v:.{digits}g}"
-
-
-def _table(head, rows) -> str:
-    out = ["<table><thead><tr>", *[f"<th>{h}</th>" for h in head], "</tr></thead><tbody>"]
-    for r in rows:
-        out.append("<tr>" + "".join(f"<td>{c}</td>" for c in r) + "</tr>")
-    out.append("</tbody></table>")
-    return "".join(out)
-
-
-def _figure(png: bytes, caption: str, name: str, figures_dir: Path | None) -> str:
-    if figures_dir is not None:
-        figures_dir.mkdir(parents=True, exist_ok=True)
-        from ..io.atomic import write_bytes_atomic
-
-        write_bytes_atomic(figures_dir / f"{name}.png", png)
-    data = base64.b64encode(png).decode("ascii")
-    return (f'<figure><img alt="{E(caption)}" src="data:image/png;base64,{data}">'
-            f"<figcaption>{E(caption)}</figcaption></figure>")
-
-
-def build_report(model, summary: dict, source: str = "", screen=None, picks=None,
-                 figures_dir: Path | None = None) -> str:
-    """The report's HTML text. ``screen``: an optional ScreenSummary plus library distances;
-    ``picks``: optional next-calculation suggestions."""
-    from ..curves.compare import compare_relations
-
-    unit = model.units
-    f = factor_to_kcal(unit)
-    kind = {"free-energy": "Gibbs free energies", "enthalpy": "enthalpies",
-            "electronic": "electronic energies"}.get(model.energy_kind, model.energy_kind)
-    energy = np.asarray(model.training["energy"])
-    barrier = np.asarray(model.training["barrier"])
-    comparison = compare_relations(energy, barrier)
-    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>barrierscope report</title>"
-             f"<style>{STYLE}</style></head><body>"]
-    parts.append(f"<h1>barrierscope report</h1><p class='muted'>{E(source)} · {summary['n']} members · {E(kind)} in "
-                 f"{E(unit)} · written {datetime.now(timezone.utc).strftime('%Y-%m-%d %H:%M UTC')} by barrierscope "
-                 f"{E(__version__)}</p>")
-    parts.append(f"<div class='caution'>{E(CAUTION)}</div>")
-    parts.append(f"<h2>Verdict</h2><div class='verdict'>{E(summary['verdict'])}</div>")
-
-    # validation table
+def _validation(rec: dict, unit: str) -> str:
+    regimes = rec["validation"]
+    head = ["route"] + [f"{REGIME_LABELS[k]}{' (' + str(v['n_test']) + ')' if v['n_test'] else ''}<br>MAE · RMSE · "
+                        f"cover" for k, v in regimes.items()]
     rows = []
-    if summary.get("energy_stage"):
-        e = summary["energy_stage"]
-        rows.append(["energy stage (reaction energy)", _num(e["mae"] / f), _num(e["rmse"] / f), _num(e["r2"], 2), "—"])
-    for r, label in ROUTE_LABELS.items():
-        m = summary["routes"].get(r)
-        if m is None:
-            continue
-        star = " (winner)" if summary["winner"] == r else ""
-        rows.append([E(label) + star, _num(m["mae"] / f), _num(m["rmse"] / f), _num(m["r2"], 2),
-                     f"{m['pi90_coverage']:.0%}"])
-    parts.append("<h2>Leave-one-out validation</h2><p>Every member left out in turn; scaling, the learner's "
-                 "hyper-parameters, the relation's choice and the curve fit are all redone without it.</p>")
-    parts.append(_table(["", f"MAE ({E(unit)})", f"RMSE ({E(unit)})", "Q²", "inside 90 % interval"], rows))
-    if summary.get("comparison"):
-        crow = [[E(k.replace("_vs_direct", "").replace("_", "-")) + " − direct", _num(c["delta_mae"] / f),
-                 f"{_num(c['ci95'][0] / f)} to {_num(c['ci95'][1] / f)}", _num(c["wilcoxon_p"], 2)]
-                for k, c in summary["comparison"].items()]
-        parts.append(_table(["paired comparison", f"MAE difference ({E(unit)})", "95 % bootstrap interval",
-                             "Wilcoxon p"], crow))
-    y = summary.get("y_randomization")
+    for key, label in [("energy_stage", "energy stage (reaction energy)"), *ROUTE_LABELS.items()]:
+        cells = []
+        for v in regimes.values():
+            m = v.get("energy_stage") if key == "energy_stage" else v.get("routes", {}).get(key)
+            cells.append("—" if not m else f"{num(m['mae'])} · {num(m['rmse'])} · "
+                                           f"{'—' if 'pi90_coverage' not in m else format(m['pi90_coverage'], '.0%')}")
+        if any(c != "—" for c in cells):
+            rows.append([esc(label)] + cells)
+    rows.append(["<b>winner</b>"] + [esc(str(v.get("winner") or "not run: " + v.get("skipped", "")))
+                                     for v in regimes.values()])
+    text = ("<h2>Validation</h2><p>Every route refitted without the held-out members — scaling, the learner's "
+            "hyper-parameters, the relation's choice and the curve fit included. Leave-one-out measures "
+            "interpolation; <i>downhill</i> and <i>uphill</i> hold out the most exergonic or endergonic quarter "
+            "and predict it from the rest; <i>clusters</i> holds out whole clusters of similar members. "
+            f"Energies in {esc(unit)}; cover: the share of held-out members inside their own 90 % interval.</p>")
+    text += table(head, rows)
+    y = rec.get("y_randomization")
     if y:
-        parts.append(f"<p>y-randomisation ({y['n_shuffles']} shuffles of the targets): two-stage LOO MAE "
-                     f"{_num(y['mae_mean'] / f)} ± {_num(y['mae_std'] / f, 2)} {E(unit)}, black box "
-                     f"{_num(y['direct_mae_mean'] / f)}; the best constant predictor reaches "
-                     f"{_num(y['mean_predictor_mae'] / f)}.</p>")
+        text += (f"<p>y-randomisation ({y['n_shuffles']} shuffles of the targets): two-stage LOO MAE "
+                 f"{num(y['mae_mean'])} ± {num(y['mae_std'], 2)} {esc(unit)}, black box {num(y['direct_mae_mean'])}; "
+                 f"the best constant predictor reaches {num(y['mean_predictor_mae'])}.</p>")
+    return text
 
-    # curve
+
+def _members(rec: dict, unit: str) -> str:
+    m = rec.get("members")
+    if not m:
+        return ""
+    route = rec.get("primary_route", "two_stage")
+    route = route if route in m["pred"] else "curve_on_true_energy"
+    err = np.asarray(m["pred"][route], dtype=float) - np.asarray(m["barrier"], dtype=float)
+    order = np.argsort(-np.abs(err))
+    unusual = np.asarray(m.get("unusual", []), dtype=bool)
+    show = [i for i in order[:10]] + [i for i in np.flatnonzero(unusual) if i not in order[:10]]
+    rows = []
+    for i in show:
+        flags = [t for t, on in (("unusual residual", unusual[i] if unusual.size else False),
+                                 ("energy outside span", m["energy_true_outside"][i]),
+                                 ("out of domain", m.get("ad_out", [False] * len(err))[i])) if on]
+        rows.append([esc(str(m["id"][i])), num(m["energy"][i]), num(m["barrier"][i]), num(m["pred"][route][i]),
+                     f"{err[i]:+.3g}", num(m["pred"]["curve_on_true_energy"][i]),
+                     f"<span class='flag'>{esc(', '.join(flags))}</span>" if flags else ""])
+    return ("<h2>Members behind the largest errors</h2><p>Leave-one-out predictions of the route the model uses "
+            f"({esc(ROUTE_LABELS.get(route, route))}); an <i>unusual residual</i> is one the curve misses by more "
+            "than three robust standard deviations even from the member's own reaction energy: check its transition "
+            "state and its energies (the full table: <code>fit --members</code>).</p>" +
+            table(["id", f"dE ({esc(unit)})", "barrier", "LOO prediction", "residual", "curve on true dE", "flags"],
+                  rows))
+
+
+def _curve(model, rec, comparison, unit, picks, figures_dir) -> str:
     curve = model.curve
-    parts.append("<h2>Barrier against reaction energy</h2>")
-    parts.append(_figure(figures.curve_figure(model, comparison, unit, f, picks),
-                         "Members, every fitted relation, the asymptotic curve's 90 % prediction band, its floor "
-                         "and its uphill asymptote" + ("; stars: suggested next calculations" if picks else "") + ".",
-                         "curve", figures_dir))
+    parts = ["<h2>Barrier against reaction energy</h2>",
+             figure(fg.figure_png(fg.draw_curve, model, unit, comparison, picks), "Members, every fitted relation, "
+                    "the prediction band of the model's relation, its floor and its uphill asymptote" +
+                    ("; stars: suggested next calculations" if picks else "") + ".", "curve", figures_dir)]
+    c = in_unit({"params": curve.params_dict(), "ci95": {k: list(v) for k, v in curve.ci_.items()},
+                 "derived": curve.derived(), "sigma": curve.sigma_}, unit)
     prow = []
-    for name, value in curve.params_dict().items():
-        dimless = name in curve.relation_.dimensionless
-        scale = 1.0 if dimless else f
-        ci = curve.ci_.get(name)
-        opened = curve.ci_open_.get(name, (False, False))
-        ci_text = "—" if ci is None else (("≤ " if opened[0] else "") + _num(ci[0] / scale, 4) + " to " +
-                                          ("≥ " if opened[1] else "") + _num(ci[1] / scale, 4))
-        prow.append([E(name), _num(value / scale, 4), ci_text])
-    parts.append(f"<p>Relation: <b>{E(curve.relation_.label)}</b>; residual scatter s = {_num(curve.sigma_ / f)} "
-                 f"{E(unit)} on {curve.dof_} degrees of freedom.</p>")
-    parts.append(_table(["parameter", f"value ({E(unit)} unless α)", "95 % interval"], prow))
-    der = curve.derived()
+    for name, value in c["params"].items():
+        ci, opened = c["ci95"].get(name), curve.ci_open_.get(name, (False, False))
+        prow.append([esc(name), num(value, 4), "—" if ci is None else
+                     f"{'≤ ' if opened[0] else ''}{num(ci[0], 4)} to {'≥ ' if opened[1] else ''}{num(ci[1], 4)}"])
+    parts.append(f"<p>Relation: <b>{esc(curve.relation_.label)}</b>; residual scatter s = {num(c['sigma'])} "
+                 f"{esc(unit)} on {curve.dof_} degrees of freedom.</p>")
+    parts.append(table(["parameter", f"value ({esc(unit)} unless α)", "95 % interval"], prow))
     if curve.relation_.name == "asymptotic":
-        parts.append(f"<p>Uphill excess U = F − M = {_num(der['uphill_excess'] / f, 4)} {E(unit)}; intrinsic barrier "
-                     f"(dE = 0) = {_num(der['intrinsic_barrier'] / f, 4)} {E(unit)}; Leffler α at dE = 0: "
-                     f"{_num(der['alpha_at_zero'], 3)}. Reverse direction: floor {_num(der['uphill_excess'] / f, 4)}, "
-                     f"midpoint {_num(-curve.params_dict()['midpoint'] / f, 4)}.</p>")
-        corr = np.asarray(curve.correlation_)
-        parts.append(_table(["correlation", "F", "M", "W"],
-                            [[n] + [f"{corr[i, j]:+.2f}" for j in range(3)] for i, n in enumerate("FMW")]))
-    ident = getattr(curve, "identifiability_", None)
-    ident_text = ident.describe(unit, f) if ident is not None else (
-        (getattr(curve, "identifiability_dict_", None) or {}).get("message"))
-    if ident_text:
-        parts.append(f"<p><b>Identifiability.</b> {E(ident_text)}</p>")
-    rrow = []
-    for name, s in comparison.scores.items():
-        if s.fit is None:
-            rrow.append([E(name), "skipped", "", "", ""])
-            continue
-        rrow.append([E(name) + (" (best)" if name == comparison.best else ""), _num(s.rmse / f), _num(s.loo_mae / f),
-                     _num(s.loo_rmse / f), _num(s.aicc, 4)])
+        d = c["derived"]
+        parts.append(f"<p>Uphill excess U = F − M = {num(d['uphill_excess'], 4)} {esc(unit)}; intrinsic barrier "
+                     f"(dE = 0) = {num(d['intrinsic_barrier'], 4)} {esc(unit)}; Leffler α at dE = 0: "
+                     f"{num(d['alpha_at_zero'], 3)}.</p>")
+    if curve.identifiability_ is not None:
+        parts.append(f"<p><b>Identifiability.</b> {esc(identifiability_text(in_unit(curve.identifiability_.as_dict(), unit), unit))}</p>")
+    rrow = [[esc(name) + (" (best)" if name == comparison.best else ""), "skipped", "", "", ""] if s.fit is None else
+            [esc(name) + (" (best)" if name == comparison.best else ""), num(to_unit(s.rmse, unit)),
+             num(to_unit(s.loo_mae, unit)), num(to_unit(s.loo_rmse, unit)), num(s.aicc, 4)]
+            for name, s in comparison.scores.items()]
     parts.append("<p>All relations on the same pairs (exact leave-one-out refits):</p>")
-    parts.append(_table(["relation", f"RMSE ({E(unit)})", "LOO MAE", "LOO RMSE", "AICc"], rrow))
-    parts.append(_figure(figures.alpha_figure(model, unit, f),
-                         "Leffler α (the local slope) against the reaction energy, with each member's α.", "alpha",
-                         figures_dir))
+    parts.append(table(["relation", f"RMSE ({esc(unit)})", "LOO MAE", "LOO RMSE", "AICc"], rrow))
+    parts.append(figure(fg.figure_png(fg.draw_alpha, model, unit, size=(6.4, 3.2)), "Leffler α (the local slope) "
+                        "against the reaction energy, with each member's α.", "alpha", figures_dir))
+    return "".join(parts)
 
-    # parity & residuals
-    if summary.get("loo"):
+
+def _diagnostics(model, rec, unit, screen, figures_dir) -> str:
+    parts = []
+    if rec.get("members"):
         parts.append("<h2>Leave-one-out predictions</h2>")
-        parts.append(_figure(figures.parity_figure(summary, unit, f),
-                             "Leave-one-out predictions against the computed barriers, shared axes.", "parity",
-                             figures_dir))
-        parts.append(_figure(figures.residual_figure(summary, unit, f),
-                             "Leave-one-out residuals against the reaction energy.", "residuals", figures_dir))
-    imp = summary.get("energy_stage_importance")
+        parts.append(figure(fg.parity_png(rec["members"], rec["routes"], unit), "Leave-one-out predictions against the "
+                            "computed barriers, shared axes.", "parity", figures_dir))
+        parts.append(figure(fg.residual_png(rec["members"], unit), "Leave-one-out residuals against the reaction "
+                            "energy.", "residuals", figures_dir))
+    imp = rec.get("energy_stage_importance")
     if imp:
-        names, values = list(imp), np.array(list(imp.values())) / f
         parts.append("<h2>What drives the reaction energy</h2>")
-        parts.append(_figure(figures.importance_figure(names, values, unit),
-                             "Permutation importance of the energy stage's descriptors.", "importance", figures_dir))
-
-    # domain
+        parts.append(figure(fg.importance_png(list(imp), np.array(list(imp.values())), unit),
+                            "Permutation importance of the energy stage's descriptors.", "importance", figures_dir))
     if model.has_structures:
+        lo, hi = to_unit(model.training["energy_range"], unit)
         parts.append("<h2>Applicability domain</h2><p>Mean distance to the 3 nearest training members in the energy "
                      "stage's standardised descriptor space; a member beyond the threshold (the 95th percentile of "
                      "the training members' own leave-one-out distances) is flagged, as is a reaction energy outside "
-                     f"the training span {_num(energy.min() / f)} to {_num(energy.max() / f)} {E(unit)}.</p>")
-        lib_d = None if screen is None else screen.get("distances")
-        parts.append(_figure(figures.domain_figure(model.domain.train_distances_, model.domain.threshold_, lib_d),
-                             "Applicability-domain distances of the training set" +
-                             (" and of the screened library." if lib_d is not None else "."), "domain", figures_dir))
-    if screen is not None:
-        s = screen["summary"]
-        parts.append("<h2>Screened library</h2>")
-        parts.append(f"<p>{s.rows} rows: {s.ok} ok, {s.rows - s.ok} with errors "
-                     f"({E(', '.join(f'{k} {v}' for k, v in s.errors.most_common()))}); {s.out_of_domain} of the ok "
-                     f"rows outside the applicability domain; {s.energy_given} used a given reaction energy.</p>")
-        if s.rate_note:
-            parts.append(f"<p>{E(s.rate_note)}</p>")
-        if screen.get("top") is not None and len(screen["top"]):
-            t = screen["top"]
-            parts.append(_table(["rank", "id", f"barrier ({E(unit)})", "90 % interval", "α", "half-life", "in domain"],
-                                [[_num(r["rank"]), E(str(r["id"])), _num(r["barrier"]), f"{_num(r['low'])} to {_num(r['high'])}",
-                                  _num(r["alpha"], 2), E(str(r["half_life"])), "yes" if r["in_domain"] else "no"]
-                                 for r in t]))
-    if picks:
-        parts.append("<h2>What to compute next</h2>")
-        parts.append(_table(["pick", "id", "score", "why"],
-                            [[str(k + 1), E(str(p["id"])), _num(p["score"]), E(p["reason"])] for k, p in enumerate(picks)]))
+                     f"the training span {num(lo)} to {num(hi)} {esc(unit)}.</p>")
+        lib = None if screen is None else screen.get("distances")
+        parts.append(figure(fg.domain_png(model.domain.train_distances_, model.domain.threshold_, lib),
+                            "Applicability-domain distances of the training set" +
+                            (" and of the screened library." if lib else "."), "domain", figures_dir))
+    return "".join(parts)
 
-    notes = list(summary.get("warnings", [])) + list(summary.get("notes", []))
-    if notes or summary.get("skipped"):
-        parts.append("<h2>Warnings and notes</h2><ul>" + "".join(f"<li>{E(w)}</li>" for w in notes) +
-                     "".join(f"<li>row {int(s['row'])} ({E(str(s['id']))}): {E(s['problem'])}</li>"
-                             for s in summary.get("skipped", [])) + "</ul>")
-    parts.append(METHODS)
-    parts.append(f"<div class='caution'>{E(CAUTION)}</div></body></html>")
+
+def build_report(model, record: dict, comparison, source: str = "", screen: dict | None = None,
+                 picks: dict | None = None, figures_dir: Path | None = None, extra_sections=()) -> str:
+    """The report's HTML. ``record``: the fit record (kcal/mol); ``comparison``: every relation
+    on the training pairs; ``screen``: a screen summary dict; ``picks``: a suggest record;
+    ``extra_sections``: HTML sections from other views (already escaped)."""
+    unit = model.units
+    rec = in_unit(record, unit)
+    pick_list = None if picks is None else picks["picks"]
+    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>barrierscope report</title>"
+             f"<style>{STYLE}</style></head><body>",
+             f"<h1>barrierscope report</h1><p class='muted'>{esc(source)} · {rec['n']} members · "
+             f"{esc(KINDS.get(model.energy_kind, model.energy_kind))} in {esc(unit)} · written "
+             f"{datetime.now(timezone.utc).strftime('%Y-%m-%d %H:%M UTC')} by barrierscope {esc(__version__)}</p>",
+             f"<div class='caution'>{esc(CAUTION)}</div>",
+             f"<h2>Verdict</h2><div class='verdict'>{esc(verdict_text(rec, unit, model.tiers))}</div>",
+             _validation(rec, unit), _members(rec, unit), _curve(model, rec, comparison, unit, pick_list, figures_dir),
+             _diagnostics(model, rec, unit, screen, figures_dir), *extra_sections]
+    notes = list(rec.get("warnings", [])) + list(rec.get("notes", []))
+    if notes or rec.get("skipped"):
+        parts.append("<h2>Warnings and notes</h2><ul>" + "".join(f"<li>{esc(w)}</li>" for w in notes) +
+                     "".join(f"<li>row {int(s['row'])} ({esc(str(s['id']))}): {esc(s['problem'])}</li>"
+                             for s in rec.get("skipped", [])) + "</ul>")
+    parts += [METHODS, f"<div class='caution'>{esc(CAUTION)}</div></body></html>"]
     return "\n".join(parts)
 
 
@@ -220,25 +171,16 @@ METHODS = """
 <li>Relations: Bell–Evans–Polanyi / Leffler line (R. P. Bell, Proc. R. Soc. A 1936, 154, 414; M. G. Evans,
 M. Polanyi, Trans. Faraday Soc. 1938, 34, 11; J. E. Leffler, Science 1953, 117, 340); Marcus (R. A. Marcus,
 J. Chem. Phys. 1956, 24, 966; J. Phys. Chem. 1968, 72, 891); Agmon–Levine (Chem. Phys. Lett. 1977, 52, 197);
-Rehm–Weller (Isr. J. Chem. 1970, 8, 259); the three-parameter asymptotic curve dE‡ = F + W ln(1 + exp((dE − M)/W)).</li>
+Rehm–Weller (Isr. J. Chem. 1970, 8, 259); Blowers–Masel (AIChE J. 2000, 46, 2041); the three-parameter
+asymptotic curve dE‡ = F + W ln(1 + exp((dE − M)/W)).</li>
 <li>Parameter intervals: profile-t (D. M. Bates, D. G. Watts, Nonlinear Regression Analysis and Its Applications,
 Wiley 1988); information criteria AICc (C. M. Hurvich, C.-L. Tsai, Biometrika 1989, 76, 297) and BIC.</li>
-<li>Validation: leave-one-out with everything inside the loop; Q² with the cautions of A. Golbraikh, A. Tropsha,
-J. Mol. Graph. Model. 2002, 20, 269; paired bootstrap (B. Efron, R. J. Tibshirani 1993) and Wilcoxon signed-rank
-test; y-randomisation; the OECD principles for (Q)SAR validation (2004; guidance 2007).</li>
+<li>Validation: leave-one-out and extrapolation splits with everything inside the loop; Q² with the cautions of
+A. Golbraikh, A. Tropsha, J. Mol. Graph. Model. 2002, 20, 269; paired bootstrap (B. Efron, R. J. Tibshirani 1993)
+and Wilcoxon signed-rank test; y-randomisation; the OECD principles for (Q)SAR validation (2004; guidance 2007).</li>
 <li>Descriptors: RDKit (Wildman–Crippen MR and logP, TPSA, Gasteiger charges); Hammett constants typed from
 memory of C. Hansch, A. Leo, R. W. Taft, Chem. Rev. 1991, 91, 165; GFN2-xTB (C. Bannwarth, S. Ehlert, S. Grimme,
 J. Chem. Theory Comput. 2019, 15, 1652) through tblite; Sterimol through morfeus.</li>
 <li>Rates: Eyring–Evans–Polanyi, k = κ (k<sub>B</sub>T/h) exp(−ΔG‡/RT), free-energy barriers only.</li>
 </ul>
 """
-
-
-def write_fit_report(model, summary: dict, report_path=None, figures_dir=None, source: str = "", screen=None,
-                     picks=None) -> None:
-    """Write the report (atomically) and, with ``figures_dir``, the figures as PNG files."""
-    from ..io.atomic import write_text_atomic
-
-    text = build_report(model, summary, source, screen, picks, Path(figures_dir) if figures_dir else None)
-    if report_path is not None:
-        write_text_atomic(report_path, text)

@@ -1,0 +1,114 @@
+"""The hybrid route: the two-stage prediction plus a learned correction of its residuals.
+
+The correction is trained on out-of-fold residuals — each member's barrier minus the
+two-stage prediction from a curve and an energy stage that did not see it — so it learns
+what the chain misses for a new member, not the energy stage's in-sample fit. Members whose
+reaction energy is given get the plain curve: the correction was learned on residuals that
+include the energy stage's error, which they do not have.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from sklearn.base import BaseEstimator, RegressorMixin
+from sklearn.utils.validation import check_is_fitted
+
+from ..curves.batch import loo_weights, refit_weighted
+from .descriptor_regressor import DescriptorRegressor
+from .two_stage import TwoStageRegressor, rows
+
+
+def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, fitted: DescriptorRegressor | None = None):
+    """Energy-stage predictions for training members from fits that did not see them:
+    exact leave-one-out for ridge (closed form), 5-fold cross-validation otherwise.
+    ``fitted`` is the energy stage already fitted on (X, energy), when there is one."""
+    energy = np.asarray(energy, dtype=float)
+    reg = fitted if fitted is not None else DescriptorRegressor(learner, random_state).fit(X, energy)
+    loo = reg.loo_predictions(energy)
+    if loo is not None:
+        return loo
+    from sklearn.model_selection import KFold
+
+    out = np.empty(energy.size)
+    for tr, te in KFold(n_splits=min(5, energy.size), shuffle=True, random_state=random_state).split(energy):
+        out[te] = DescriptorRegressor(learner, random_state).fit(rows(X, tr), energy[tr]).predict(rows(X, te))
+    return out
+
+
+def out_of_fold_barrier(curve, energy, barrier, energy_oof) -> np.ndarray:
+    """Each member's barrier from the curve refitted without it (warm-started at the full
+    fit, which never saw the member a caller holds out), fed its out-of-fold energy."""
+    energy = np.asarray(energy, dtype=float)
+    thetas = refit_weighted(curve.relation_, energy, barrier, loo_weights(energy.size), curve.params_,
+                            bounds=curve.relation_.bounds(energy, barrier))
+    return curve.relation_.barrier(np.asarray(energy_oof, dtype=float)[:, None], thetas)[:, 0]
+
+
+class HybridRegressor(RegressorMixin, BaseEstimator):
+    """Two-stage barrier (kcal/mol) plus a correction of its residuals from the descriptors.
+
+    Parameters
+    ----------
+    learner : str — the learner of the energy stage and of the correction
+    relation : str — the relation of the two-stage part
+    random_state : int
+
+    Attributes
+    ----------
+    two_stage_ : TwoStageRegressor
+    correction_ : DescriptorRegressor
+    oof_residuals_ : ndarray (n,) — the residuals the correction was trained on, kcal/mol
+    """
+
+    def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0):
+        self.learner = learner
+        self.relation = relation
+        self.random_state = random_state
+
+    def __sklearn_tags__(self):
+        tags = super().__sklearn_tags__()
+        tags.input_tags.allow_nan = True
+        return tags
+
+    def fit(self, X, y, energy=None):
+        """X (n, p) descriptors, y (n,) barriers and ``energy`` (n,) reaction energies, kcal/mol."""
+        if energy is None:
+            raise ValueError("HybridRegressor.fit needs the members' reaction energies: fit(X, y, energy=E)")
+        if X is None or np.shape(X)[1] == 0:
+            raise ValueError("the hybrid route needs descriptors to learn its correction from")
+        barrier = np.asarray(y, dtype=float).ravel()
+        energy = np.asarray(energy, dtype=float).ravel()
+        self.two_stage_ = TwoStageRegressor(self.learner, self.relation, random_state=self.random_state).fit(
+            X, barrier, energy)
+        self.n_features_in_ = self.two_stage_.n_features_in_
+        e_oof = out_of_fold_energy(X, energy, self.learner, self.random_state, fitted=self.two_stage_.energy_)
+        self.oof_residuals_ = barrier - out_of_fold_barrier(self.two_stage_.curve_, energy, barrier, e_oof)
+        self.correction_ = DescriptorRegressor(self.learner, self.random_state).fit(X, self.oof_residuals_)
+        return self
+
+    def predict_parts(self, X, energy=None) -> dict:
+        check_is_fitted(self, "correction_")
+        parts = dict(self.two_stage_.predict_parts(X, energy))
+        corr, corr_std = self.correction_.predict(X, return_std=True)
+        given = parts["energy_given"]
+        parts["barrier"] = np.where(given, parts["barrier"], parts["barrier"] + corr)
+        parts["barrier_std"] = np.where(given, parts["barrier_std"], corr_std)
+        return parts
+
+    def predict(self, X, energy=None, return_std: bool = False):
+        parts = self.predict_parts(X, energy)
+        return (parts["barrier"], parts["barrier_std"]) if return_std else parts["barrier"]
+
+    def as_dict(self) -> dict:
+        check_is_fitted(self, "correction_")
+        return {"params": self.get_params(), "two_stage": self.two_stage_.as_dict(),
+                "correction": self.correction_.as_dict()}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "HybridRegressor":
+        self = cls(**d["params"])
+        self.two_stage_ = TwoStageRegressor.from_dict(d["two_stage"])
+        self.n_features_in_ = self.two_stage_.n_features_in_
+        self.correction_ = DescriptorRegressor.from_dict(d["correction"])
+        self.oof_residuals_ = None
+        return self

@@ -1,0 +1,61 @@
+"""A family's table → the usable members: descriptors, reaction energies and barriers.
+
+Structures are described (or there are none, for a curve-only model), the user's own
+descriptor columns are added, energies are parsed into kcal/mol at this edge, and bad rows,
+duplicates and unit mix-ups are found (:mod:`..io.pairs`). Every problem names its row.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..io.pairs import RowProblem, load_pairs
+from ..io.tables import ROW, parse_numeric, require_columns, row_ids
+from ..structures.spec import InputSpec
+from ..units import normalize_unit
+
+
+def _extra_matrix(df: pd.DataFrame, columns: list[str], ids: pd.Series, source: str):
+    require_columns(df, columns, source)
+    data, problems = {}, []
+    rows = df[ROW].to_numpy()
+    for col in columns:
+        values, bad = parse_numeric(df[col].reset_index(drop=True), col)
+        for pos, msg in bad:
+            if "empty cell" in msg or "NaN" in msg:
+                continue  # missing user descriptors are imputed (and counted), like missing RDKit ones
+            problems.append(RowProblem(int(rows[pos]), ids.iloc[pos], msg))
+        data[col] = values
+    return pd.DataFrame(data, index=df.index), problems
+
+
+def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts):
+    """Descriptors, energies and barriers of the usable members; problems name their rows."""
+    unit = normalize_unit(opts.units)
+    ids = row_ids(df, opts.id_column, source)
+    problems: list[RowProblem] = []
+    X = None
+    keys = None
+    if spec.mode != "none":
+        from ..descriptors.featurize import featurize
+
+        require_columns(df, list(spec.columns) + ([spec.multiplicity] if spec.multiplicity else []), source)
+        block = featurize(df, spec, engine, max_atoms=opts.max_atoms)
+        X = block.X
+        rows = df[ROW].to_numpy()
+        problems += [RowProblem(int(rows[i]), ids.iloc[i], block.status[i]) for i in np.flatnonzero(~block.ok)]
+        keys = pd.Series(["|".join(str(block.units[p][i]) for p in block.units) for i in range(len(df))])
+        freq = block.extra.get("reactant_frequency")
+        if freq is not None:  # the order of reactants must mean the same at screening time
+            from dataclasses import replace
+
+            spec = replace(spec, reactant_frequency=tuple(freq.most_common(500)))
+    if opts.extra_descriptors:
+        extra, bad = _extra_matrix(df, opts.extra_descriptors, ids, source)
+        problems += bad
+        X = extra if X is None else pd.concat([X, extra], axis=1)
+    pairs = load_pairs(df, source, opts.energy_column, opts.barrier_column, unit, id_col=opts.id_column,
+                       skip_bad_rows=opts.skip_bad_rows, keys=keys, extra_bad=problems)
+    X = None if X is None else X.loc[pairs.keep].reset_index(drop=True)
+    return X, pairs, spec

@@ -1,0 +1,126 @@
+"""Predictions for a chunk of library rows, every row with a status (energies in kcal/mol).
+
+:func:`predict_chunk` is the unit of work of `screen` and `suggest`: it runs wherever the
+executor puts it (this process, a worker process, a Dask task) and returns one row per
+input row, in input order. Rows that cannot be predicted keep their place with the reason in
+``status``; the others get the reaction energy (given or predicted), the barrier with its
+interval, the local Leffler α, rates and half-lives with intervals (free-energy models), and
+the applicability-domain flags.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..io.tables import READ_ERROR, ROW, parse_numeric, row_ids
+from ..kinetics import eyring_rate, half_life
+from ..units import factor_to_kcal
+
+OK = "ok"
+
+
+@dataclass(frozen=True)
+class ScreenOptions:
+    temperature: float = 298.15          # K
+    transmission: float = 1.0
+    energy_column: str | None = None     # library column with computed reaction energies
+    energy_units: str | None = None      # unit of that column (default: the model's)
+    id_column: str | None = None
+    cache_dir: str | None = "default"
+    max_atoms: int = 200
+
+
+@dataclass
+class ChunkPrediction:
+    frame: pd.DataFrame             # one row per input row (kcal/mol, s⁻¹, s)
+    X: pd.DataFrame | None          # the model's descriptors of the chunk (None: curve-only model)
+    keys: list[str] | None = None   # each row's structure key ("" where it failed; None: curve-only)
+
+
+def _given_energies(chunk, model, opts, status, kind) -> np.ndarray:
+    if opts.energy_column is None:
+        return np.full(len(chunk), np.nan)
+    values, problems = parse_numeric(chunk[opts.energy_column], opts.energy_column)
+    for pos, msg in problems:
+        missing = "empty cell" in msg or "NaN" in msg
+        # With structures a missing energy is predicted; text that is not a number is an error.
+        if status[pos] == OK and not (missing and model.has_structures):
+            status[pos], kind[pos] = msg, "energy"
+    return values * factor_to_kcal(opts.energy_units or model.units)
+
+
+def _descriptors(chunk, model, opts, engine, status, kind):
+    from ..descriptors.featurize import featurize
+
+    block = featurize(chunk, model.spec, engine, max_atoms=opts.max_atoms)
+    for i in np.flatnonzero(~block.ok):
+        if status[i] == OK:
+            status[i], kind[i] = block.status[i], block.error_kind[i] or "structure"
+    X = block.X
+    for c in model.features:
+        if c not in X.columns:  # a user's extra descriptor absent here is imputed like any missing value
+            X[c] = np.nan
+    return X[model.features], block.notes.copy(), block.keys
+
+
+def _rates(frame: pd.DataFrame, idx, p: dict, opts: ScreenOptions) -> None:
+    t, kappa = opts.temperature, opts.transmission
+    frame.loc[idx, "rate_constant_per_s"] = eyring_rate(p["barrier"], t, kappa)
+    frame.loc[idx, "rate_low90_per_s"] = eyring_rate(p["high"], t, kappa)
+    frame.loc[idx, "rate_high90_per_s"] = eyring_rate(p["low"], t, kappa)
+    frame.loc[idx, "half_life_s"] = half_life(p["barrier"], t, kappa)
+    frame.loc[idx, "half_life_low90_s"] = half_life(p["low"], t, kappa)
+    frame.loc[idx, "half_life_high90_s"] = half_life(p["high"], t, kappa)
+
+
+NUMERIC = ("energy", "energy_sd", "barrier", "low", "high", "barrier_sd", "alpha", "rate_constant_per_s",
+           "rate_low90_per_s", "rate_high90_per_s", "half_life_s", "half_life_low90_s", "half_life_high90_s",
+           "ad_distance")
+
+
+def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, engine) -> ChunkPrediction:
+    """One output row per input row of ``chunk``; see the module docstring."""
+    chunk = chunk.reset_index(drop=True)
+    n = len(chunk)
+    status = np.full(n, OK, dtype=object)
+    kind = np.full(n, "", dtype=object)
+    notes = np.full(n, "", dtype=object)
+    if READ_ERROR in chunk.columns:
+        bad = (chunk[READ_ERROR].astype(str) != "").to_numpy()
+        status[bad], kind[bad] = chunk.loc[bad, READ_ERROR].to_numpy(), "unreadable"
+    given = _given_energies(chunk, model, opts, status, kind)
+    X = keys = None
+    if model.has_structures:
+        X, notes, keys = _descriptors(chunk, model, opts, engine, status, kind)
+    frame = pd.DataFrame({"row": chunk[ROW].to_numpy(), "id": row_ids(chunk, opts.id_column, source).to_numpy()})
+    for c in [*model.spec.columns, *([opts.energy_column] if opts.energy_column else [])]:
+        if c in chunk.columns and c not in frame.columns:
+            frame[c] = chunk[c].astype(str).str.replace("\n", " ", regex=False).to_numpy()
+    frame["status"], frame["error_kind"] = status, kind
+    for c in NUMERIC:
+        frame[c] = np.nan
+    frame["energy_source"], frame["route"] = "", ""
+    for c in ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside"):
+        frame[c] = False
+    idx = np.flatnonzero(status == OK)
+    if idx.size:
+        p = model.predict(None if X is None else X.iloc[idx].reset_index(drop=True), given[idx])
+        for c, key in (("energy", "energy"), ("energy_sd", "energy_std"), ("barrier", "barrier"), ("low", "low"),
+                       ("high", "high"), ("barrier_sd", "barrier_std"), ("alpha", "alpha"),
+                       ("ad_distance", "ad_distance"), ("ad_descriptor_out", "ad_descriptor_out"),
+                       ("ad_energy_out", "ad_energy_out"), ("route", "route"),
+                       ("relation_outside", "relation_outside")):
+            frame.loc[idx, c] = p[key]
+        frame.loc[idx, "energy_source"] = np.where(p["energy_given"], "given", "predicted")
+        frame.loc[idx, "in_domain"] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
+        if model.energy_kind == "free-energy":
+            _rates(frame, idx, p, opts)
+        outside = np.asarray(p["relation_outside"], dtype=bool)
+        for j in idx[outside]:
+            notes[j] = "; ".join(x for x in (notes[j], f"outside the {model.curve.relation_.label} relation's range "
+                                                       f"of validity") if x)
+    frame["notes"] = notes
+    return ChunkPrediction(frame, X, keys)

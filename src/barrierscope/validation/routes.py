@@ -1,0 +1,234 @@
+"""Out-of-fold predictions of every route, with everything refitted inside each split.
+
+For every split, each route is fitted on the training members only — imputation, scaling,
+the learner's hyper-parameters, the relation's choice (``auto``), the curve fit, the
+hybrid's nested out-of-fold residuals — and predicts the test members. The routes:
+
+- ``two_stage`` — energy stage, then the curve;
+- ``hybrid`` — two-stage plus a correction learned from its out-of-fold residuals;
+- ``direct`` — the black box: the same descriptors → barrier, same learner, same tuning;
+- ``curve_on_true_energy`` — the curve fed the member's own reaction energy;
+- ``family_mean`` — the mean barrier of the training members (what any route must beat).
+
+The curve fits of all splits are solved together (:func:`..curves.batch.fit_subsets`),
+each from starting points computed on its own training members, so no held-out member
+steers its refit; nested refits inside the hybrid start from the split's own curve. The
+results equal refitting the estimators of :mod:`barrierscope.estimators` split by split
+(tested), at a fraction of the cost. Energies in kcal/mol.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+from scipy import special
+
+from ..curves.batch import fit_subsets, interior, lm_solve
+from ..curves.intervals import t_quantile
+from ..estimators.descriptor_regressor import DescriptorRegressor
+from ..estimators.domain import ApplicabilityDomain
+from ..estimators.hybrid import out_of_fold_energy
+from ..estimators.two_stage import rows
+from ..relations import RELATIONS, get_relation
+from .splits import Split
+
+ROUTES = ("two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean")
+DESCRIPTOR_ROUTES = ("two_stage", "hybrid", "direct")
+
+
+@dataclass
+class FoldCurves:
+    """One fitted relation per split (all energies kcal/mol)."""
+
+    relations: list            # Relation per split
+    theta: list                # parameter vector per split
+    cov: list                  # covariance per split
+    sigma: np.ndarray          # residual standard deviation per split
+    dof: np.ndarray
+
+    def predict(self, k: int, energy, energy_std=None, level: float = 0.90):
+        """(mean, std, low, high) of the barrier at ``energy`` from split k's curve."""
+        rel, th = self.relations[k], self.theta[k]
+        e = np.asarray(energy, dtype=float)
+        jac = rel.jacobian(e, th)
+        var = np.einsum("np,pq,nq->n", jac, self.cov[k], jac) + self.sigma[k] ** 2
+        if energy_std is not None:
+            var = var + (rel.slope(e, th) * np.asarray(energy_std, dtype=float)) ** 2
+        mean, std = rel.barrier(e, th), np.sqrt(var)
+        q = t_quantile(level, max(int(self.dof[k]), 1))
+        return mean, std, mean - q * std, mean + q * std
+
+
+@dataclass
+class OutOfFold:
+    """Predictions of the tested members (NaN where a member was not tested), kcal/mol."""
+
+    n: int
+    pred: dict[str, np.ndarray] = field(default_factory=dict)
+    std: dict[str, np.ndarray] = field(default_factory=dict)
+    low: dict[str, np.ndarray] = field(default_factory=dict)
+    high: dict[str, np.ndarray] = field(default_factory=dict)
+    energy: np.ndarray | None = None
+    energy_std: np.ndarray | None = None
+    relations: list[str] = field(default_factory=list)
+    tested: np.ndarray | None = None
+    #: per member, as seen from the split that held it out: descriptor distance to the training
+    #: members and whether it is beyond the domain threshold; predicted and true reaction energy
+    #: outside the training members' span
+    ad_distance: np.ndarray | None = None
+    ad_out: np.ndarray | None = None
+    energy_pred_outside: np.ndarray | None = None
+    energy_true_outside: np.ndarray | None = None
+
+    def _put(self, route, idx, mean, std, low, high):
+        for store, v in ((self.pred, mean), (self.std, std), (self.low, low), (self.high, high)):
+            store.setdefault(route, np.full(self.n, np.nan))[idx] = v
+
+
+def _weights(splits: list[Split], n: int) -> np.ndarray:
+    w = np.zeros((len(splits), n))
+    for k, s in enumerate(splits):
+        w[k, s.train] = 1.0
+    return w
+
+
+def _nested_refits(rel, x, y, trains: list[np.ndarray], thetas):
+    """For every split k and every training member i of it: the relation refitted to split k's
+    training members without i, warm-started at split k's own fit θ_k and kept within split
+    k's bounds. Returns (theta (rows, p), owner k per row, left-out member per row)."""
+    w_rows, starts, lows, highs, owner, left = [], [], [], [], [], []
+    for k, train in enumerate(trains):
+        lo, hi = rel.bounds(x[train], y[train])
+        base = np.zeros(x.size)
+        base[train] = 1.0
+        for i in train:
+            w = base.copy()
+            w[i] = 0.0
+            w_rows.append(w)
+        starts += [thetas[k]] * train.size
+        lows += [lo] * train.size
+        highs += [hi] * train.size
+        owner += [k] * train.size
+        left += list(train)
+    lows, highs = np.array(lows), np.array(highs)
+    theta, _, _ = lm_solve(rel, x, y, np.array(w_rows), interior(np.array(starts), lows, highs), lows, highs)
+    return theta, np.array(owner), np.array(left)
+
+
+def _choose_relations(x, y, trains: list[np.ndarray]) -> list[str]:
+    """Per split: the relation with the lowest inner leave-one-out RMSE on its training members
+    (each inner refit warm-started at that split's own fit of the relation)."""
+    w = np.zeros((len(trains), x.size))
+    for k, t in enumerate(trains):
+        w[k, t] = 1.0
+    scores = {}
+    for name, cls in RELATIONS.items():
+        rel = cls()
+        if min(t.size for t in trains) < rel.n_params + 2:
+            continue
+        base = fit_subsets(rel, x, y, w).theta
+        theta, owner, left = _nested_refits(rel, x, y, trains, base)
+        err = rel.barrier(x[left][:, None], theta)[:, 0] - y[left]
+        scores[name] = np.sqrt(np.bincount(owner, err * err) / np.bincount(owner))
+    names = list(scores)
+    table = np.column_stack([scores[k] for k in names])
+    return [names[j] for j in np.argmin(np.where(np.isfinite(table), table, np.inf), axis=1)]
+
+
+def fold_curves(relation: str, energy, barrier, splits: list[Split]) -> FoldCurves:
+    """The relation (or, for ``auto``, each split's choice) fitted to every split's training set."""
+    x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
+    w = _weights(splits, x.size)
+    names = _choose_relations(x, y, [s.train for s in splits]) if relation == "auto" else [relation] * len(splits)
+    m = len(splits)
+    out = FoldCurves([None] * m, [None] * m, [None] * m, np.empty(m), np.empty(m))
+    for name in dict.fromkeys(names):
+        group = np.array([k for k in range(m) if names[k] == name])
+        rel = get_relation(name)
+        theta = fit_subsets(rel, x, y, w[group]).theta
+        jac = rel.jacobian(x, theta)                                        # (g, n, p)
+        r = rel.barrier(x, theta) - y
+        dof = w[group].sum(axis=1) - rel.n_params
+        s2 = np.einsum("kn,kn->k", w[group], r * r) / np.maximum(dof, 1)
+        info = np.einsum("kn,knp,knq->kpq", w[group], jac, jac)
+        cov = s2[:, None, None] * np.linalg.pinv(info, rcond=1e-12, hermitian=True)
+        for j, k in enumerate(group):
+            out.relations[k], out.theta[k], out.cov[k] = rel, theta[j], cov[j]
+            out.sigma[k], out.dof[k] = np.sqrt(s2[j]), dof[j]
+    return out
+
+
+def _nested_curve_barriers(curves: FoldCurves, x, y, splits, e_oof) -> list[np.ndarray]:
+    """Per split, each training member's barrier from the split's curve refitted without it,
+    fed its out-of-fold energy. All nested refits of one relation are solved together."""
+    out: list = [None] * len(splits)
+    names = [rel.name for rel in curves.relations]
+    for name in dict.fromkeys(names):
+        group = [k for k in range(len(splits)) if names[k] == name]
+        rel = curves.relations[group[0]]
+        theta, owner, _ = _nested_refits(rel, x, y, [splits[k].train for k in group],
+                                         [curves.theta[k] for k in group])
+        for j, k in enumerate(group):
+            out[k] = rel.barrier(np.asarray(e_oof[k], dtype=float)[:, None], theta[owner == j])[:, 0]
+    return out
+
+
+def out_of_fold(X, energy, barrier, splits: list[Split], *, learner: str = "ridge", relation: str = "asymptotic",
+                level: float = 0.90, random_state: int = 0, routes=ROUTES) -> OutOfFold:
+    """Out-of-fold predictions and ``level`` intervals of every route in ``routes``."""
+    x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
+    n = x.size
+    has_x = X is not None and np.shape(X)[1] > 0
+    routes = [r for r in routes if has_x or r not in DESCRIPTOR_ROUTES]
+    out = OutOfFold(n=n, tested=np.zeros(n, dtype=bool), energy_true_outside=np.zeros(n, dtype=bool))
+    curves = fold_curves(relation, x, y, splits)
+    out.relations = [rel.name for rel in curves.relations]
+    z = float(special.ndtri(0.5 + level / 2))
+    if has_x:
+        out.energy, out.energy_std, out.ad_distance = np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
+        out.ad_out, out.energy_pred_outside = np.zeros(n, dtype=bool), np.zeros(n, dtype=bool)
+    energy_regs, e_oof = [], []
+    for k, s in enumerate(splits):
+        out.tested[s.test] = True
+        span = (x[s.train].min(), x[s.train].max())
+        out.energy_true_outside[s.test] = (x[s.test] < span[0]) | (x[s.test] > span[1])
+        if "curve_on_true_energy" in routes:
+            out._put("curve_on_true_energy", s.test, *curves.predict(k, x[s.test], level=level))
+        if "family_mean" in routes:
+            yt = y[s.train]
+            sd = float(np.std(yt, ddof=1)) * np.sqrt(1.0 + 1.0 / yt.size) if yt.size > 1 else np.nan
+            q = t_quantile(level, max(yt.size - 1, 1))
+            out._put("family_mean", s.test, yt.mean(), sd, yt.mean() - q * sd, yt.mean() + q * sd)
+        if not has_x:
+            continue
+        Xtr, Xte = rows(X, s.train), rows(X, s.test)
+        reg = DescriptorRegressor(learner, random_state).fit(Xtr, x[s.train])
+        e_hat, e_sd = reg.predict(Xte, return_std=True)
+        out.energy[s.test], out.energy_std[s.test] = e_hat, e_sd
+        out.energy_pred_outside[s.test] = (e_hat < span[0]) | (e_hat > span[1])
+        domain = ApplicabilityDomain().fit(reg.transform(Xtr), x[s.train])
+        out.ad_distance[s.test] = domain.distance(reg.transform(Xte))
+        out.ad_out[s.test] = out.ad_distance[s.test] > domain.threshold_
+        if "two_stage" in routes:
+            out._put("two_stage", s.test, *curves.predict(k, e_hat, e_sd, level))
+        if "direct" in routes:
+            d, ds = DescriptorRegressor(learner, random_state).fit(Xtr, y[s.train]).predict(Xte, return_std=True)
+            out._put("direct", s.test, d, ds, d - z * ds, d + z * ds)
+        if "hybrid" in routes:
+            energy_regs.append(reg)
+            e_oof.append(out_of_fold_energy(Xtr, x[s.train], learner, random_state, fitted=reg))
+    if has_x and "hybrid" in routes:
+        _hybrid(out, X, x, y, splits, curves, e_oof, learner, random_state, z, level)
+    return out
+
+
+def _hybrid(out, X, x, y, splits, curves, e_oof, learner, random_state, z, level) -> None:
+    nested = _nested_curve_barriers(curves, x, y, splits, e_oof)
+    for k, s in enumerate(splits):
+        resid = y[s.train] - nested[k]
+        corr = DescriptorRegressor(learner, random_state).fit(rows(X, s.train), resid)
+        c, cs = corr.predict(rows(X, s.test), return_std=True)
+        base, _, _, _ = curves.predict(k, out.energy[s.test], out.energy_std[s.test], level)
+        h = base + c
+        out._put("hybrid", s.test, h, cs, h - z * cs, h + z * cs)

@@ -1,0 +1,109 @@
+"""Validate a family as the chemist will use it: every regime, every route, one record.
+
+:func:`validate` runs leave-one-out and the extrapolation regimes (:mod:`.splits`), scores
+every route on the held-out members (:mod:`.metrics`), decides each regime (:mod:`.verdict`),
+y-randomises, and keeps the per-member leave-one-out table. Everything is refitted inside
+each split (:mod:`.routes`). The record is plain data in kcal/mol; the views turn it into
+the user's unit and words.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..estimators.preprocess import Preprocessor
+from .metrics import metrics
+from .routes import ROUTES, out_of_fold
+from .splits import REGIMES, regimes
+from .verdict import decide
+from .yrandom import y_randomization
+
+#: |residual| above this many robust standard deviations marks a member as unusual (common
+#: practice for outlier screening: about 3σ; the σ is 1.4826·MAD of the residuals).
+UNUSUAL_Z = 3.0
+
+
+@dataclass(frozen=True)
+class ValidationOptions:
+    learner: str = "ridge"
+    relation: str = "asymptotic"
+    level: float = 0.90
+    random_state: int = 0
+    n_shuffles: int = 5
+    regimes: tuple[str, ...] = REGIMES
+
+
+def standardised(X) -> np.ndarray | None:
+    """The family's descriptors imputed and standardised (None without descriptors)."""
+    if X is None or np.shape(X)[1] == 0:
+        return None
+    A = X.to_numpy(dtype=float) if hasattr(X, "to_numpy") else np.asarray(X, dtype=float)
+    return Preprocessor.fit(A, [str(c) for c in range(A.shape[1])]).transform(A)
+
+
+def _regime_record(oof, energy, barrier, ids, random_state) -> dict:
+    routes = {r: metrics(barrier, oof.pred[r], oof.low[r], oof.high[r]) for r in ROUTES if r in oof.pred}
+    decision = decide({r: oof.pred[r] - barrier for r in oof.pred}, ids, random_state)
+    record = {"n_test": int(oof.tested.sum()), "routes": routes, "winner": decision["winner"],
+              "tied": decision["tied"], "leader_beats": decision["leader_beats"], "beats_mean": decision["beats_mean"],
+              "misses": decision["misses"],
+              "pairs": decision["pairs"], "skipped": ""}
+    record["energy_stage"] = None if oof.energy is None else metrics(energy, oof.energy)
+    return record
+
+
+def _members(oof, energy, barrier, ids) -> dict:
+    """The per-member leave-one-out table (column-oriented, kcal/mol)."""
+    out = {"id": list(ids), "energy": energy.tolist(), "barrier": barrier.tolist(),
+           "energy_pred": None if oof.energy is None else oof.energy.tolist(),
+           "energy_sd": None if oof.energy_std is None else oof.energy_std.tolist(),
+           "pred": {r: v.tolist() for r, v in oof.pred.items()},
+           "low": {r: v.tolist() for r, v in oof.low.items()},
+           "high": {r: v.tolist() for r, v in oof.high.items()},
+           "energy_true_outside": oof.energy_true_outside.tolist()}
+    if oof.ad_out is not None:
+        out.update({"ad_distance": oof.ad_distance.tolist(), "ad_out": oof.ad_out.tolist(),
+                    "energy_pred_outside": oof.energy_pred_outside.tolist()})
+    # A member the curve misses badly even from its own reaction energy points at the data
+    # (a transition state that is not the right one, or a mis-assigned energy), not the model.
+    resid = oof.pred["curve_on_true_energy"] - barrier
+    mad = 1.4826 * float(np.median(np.abs(resid - np.median(resid))))
+    out["unusual"] = (np.abs(resid - np.median(resid)) > UNUSUAL_Z * mad).tolist() if mad > 0 else [False] * len(ids)
+    return out
+
+
+def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOptions()) -> dict:
+    """Every regime in ``opts.regimes``; see the module docstring. Energies in kcal/mol."""
+    energy = np.asarray(energy, dtype=float)
+    barrier = np.asarray(barrier, dtype=float)
+    has_x = X is not None and np.shape(X)[1] > 0
+    plan = regimes(energy, standardised(X) if has_x else None, opts.random_state, opts.regimes)
+    kw = dict(learner=opts.learner, relation=opts.relation, level=opts.level, random_state=opts.random_state)
+    record: dict = {"validation": {}}
+    loo = None
+    for name, regime in plan.items():
+        if regime.skipped:
+            record["validation"][name] = {"n_test": 0, "routes": {}, "winner": None, "skipped": regime.skipped}
+            continue
+        oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, **kw)
+        record["validation"][name] = _regime_record(oof, energy, barrier, ids, opts.random_state)
+        if name == "loo":
+            loo = oof
+    if loo is None:
+        raise ValueError("leave-one-out validation is required")
+    top = record["validation"]["loo"]
+    record["routes"] = {r: top["routes"].get(r) for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy",
+                                                          "family_mean")}
+    record["energy_stage"] = top["energy_stage"]
+    record["comparison"] = {k: top["pairs"][k] for k in ("two_stage_vs_direct", "hybrid_vs_direct")
+                            if k in top["pairs"]}
+    record["winner"] = top["winner"] if has_x else ("curve_on_true_energy" if top["winner"] == "curve_on_true_energy"
+                                                    else top["winner"])
+    record["members"] = _members(loo, energy, barrier, ids)
+    if opts.relation == "auto":
+        record["relations_chosen_in_folds"] = {k: loo.relations.count(k) for k in sorted(set(loo.relations))}
+    record["y_randomization"] = (y_randomization(X, energy, barrier, opts.learner, opts.relation, opts.n_shuffles,
+                                                 opts.random_state) if has_x and opts.n_shuffles else None)
+    return record

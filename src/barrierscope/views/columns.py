@@ -1,0 +1,81 @@
+"""The screen output's columns: names, the user's unit, order and rounding.
+
+A prediction frame (kcal/mol, from :mod:`..jobs.predict`) becomes the table the chemist
+reads. Energy columns carry their unit in the name (``barrier_kJ_mol``); CSV and TSV get
+values rounded to what the model can support (energies to 0.01, α to 0.001, rates and
+half-lives to four significant figures), Parquet keeps full precision. Adding a column
+means adding it here (and computing it in the prediction frame).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..kinetics import format_duration
+from ..units import factor_to_kcal
+from .units import unit_slug
+
+#: (output name with {u} for the unit slug, source column in the prediction frame, kind);
+#: kinds: energy (converted, 2 decimals), plain3 (3 decimals), sig4 (4 significant figures), as-is.
+SCHEMA = (
+    ("reaction_energy_{u}", "energy", "energy"),
+    ("reaction_energy_sd_{u}", "energy_sd", "energy"),
+    ("reaction_energy_source", "energy_source", "text"),
+    ("barrier_{u}", "barrier", "energy"),
+    ("barrier_low90_{u}", "low", "energy"),
+    ("barrier_high90_{u}", "high", "energy"),
+    ("barrier_sd_{u}", "barrier_sd", "energy"),
+    ("leffler_alpha", "alpha", "plain3"),
+    ("rate_constant_per_s", "rate_constant_per_s", "sig4"),
+    ("rate_low90_per_s", "rate_low90_per_s", "sig4"),
+    ("rate_high90_per_s", "rate_high90_per_s", "sig4"),
+    ("half_life_s", "half_life_s", "sig4"),
+    ("half_life_low90_s", "half_life_low90_s", "sig4"),
+    ("half_life_high90_s", "half_life_high90_s", "sig4"),
+    ("half_life", "half_life_s", "duration"),
+    ("ad_distance", "ad_distance", "plain3"),
+    ("ad_descriptor_out", "ad_descriptor_out", "text"),
+    ("ad_energy_out", "ad_energy_out", "text"),
+    ("in_domain", "in_domain", "text"),
+    ("route", "route", "text"),
+    ("notes", "notes", "text"),
+)
+
+
+def _sig(values: np.ndarray, digits: int = 4) -> np.ndarray:
+    v = np.asarray(values, dtype=float)
+    out = v.copy()
+    ok = np.isfinite(v) & (v != 0)
+    mag = np.floor(np.log10(np.abs(v[ok])))
+    scale = 10.0 ** (digits - 1 - mag)
+    out[ok] = np.round(v[ok] * scale) / scale
+    return out
+
+
+def _durations(seconds) -> np.ndarray:
+    s = np.asarray(seconds, dtype=float)
+    return np.array([format_duration(float(t)) if np.isfinite(t) else "" for t in s], dtype=object)
+
+
+def screen_frame(pred: pd.DataFrame, unit: str, rounded: bool = True) -> pd.DataFrame:
+    """The output table of a prediction frame: identification columns as they came, then
+    :data:`SCHEMA` in the user's ``unit``; ``rounded`` for CSV/TSV."""
+    f = factor_to_kcal(unit)
+    slug = unit_slug(unit)
+    first = [c for c in pred.columns if c not in {s for _, s, _ in SCHEMA} and c not in ("low", "high",
+                                                                                         "relation_outside")]
+    out = pred[first].copy()
+    for name, source, kind in SCHEMA:
+        v = pred[source]
+        if kind == "energy":
+            v = v.to_numpy(dtype=float) / f
+            v = np.round(v, 2) if rounded else v
+        elif kind == "plain3":
+            v = np.round(v.to_numpy(dtype=float), 3) if rounded else v.to_numpy(dtype=float)
+        elif kind == "sig4":
+            v = _sig(v.to_numpy(dtype=float)) if rounded else v.to_numpy(dtype=float)
+        elif kind == "duration":
+            v = _durations(v)
+        out[name.format(u=slug)] = v
+    return out

@@ -1,0 +1,84 @@
+"""What `fit` prints: the regimes side by side, the comparisons, the verdict, the curve.
+
+Takes the fit record already in the user's unit (:func:`.units.in_unit`).
+"""
+
+from __future__ import annotations
+
+from .cautions import CAUTION
+from .verdict import verdict_text
+
+ROUTE_LABELS = {"two_stage": "two-stage barrier", "hybrid": "hybrid barrier", "direct": "direct barrier (black box)",
+                "curve_on_true_energy": "curve on the true dE", "family_mean": "family mean"}
+REGIME_LABELS = {"loo": "leave-one-out", "downhill": "downhill", "uphill": "uphill", "clusters": "clusters"}
+
+
+def _cell(m: dict | None, key: str, fmt: str = ".3g") -> str:
+    if not m or m.get(key) is None:
+        return "—"
+    return format(m[key], fmt)
+
+
+def regime_table(record: dict) -> list[str]:
+    regimes = {k: v for k, v in record["validation"].items()}
+    head = f"{'':<28}" + "".join(f"{REGIME_LABELS[k] + (' (' + str(v['n_test']) + ')' if v['n_test'] else ''):>20}"
+                                 for k, v in regimes.items())
+    sub = f"{'':<28}" + "".join(f"{'MAE':>7}{'RMSE':>7}{'cover':>6}" for _ in regimes)
+    lines = [head, sub, "-" * len(sub)]
+    rows = [("energy_stage", "energy stage (dE)")] + list(ROUTE_LABELS.items())
+    for key, label in rows:
+        cells = []
+        for v in regimes.values():
+            m = v.get("energy_stage") if key == "energy_stage" else v.get("routes", {}).get(key)
+            cells.append(f"{_cell(m, 'mae'):>7}{_cell(m, 'rmse'):>7}{_cell(m, 'pi90_coverage', '.0%'):>6}")
+        if any(c.strip("— ") for c in cells):
+            lines.append(f"{label:<28}" + "".join(cells))
+    lines.append(f"{'winner':<28}" + "".join(f"{str(v.get('winner') or 'not run'):>20}" for v in regimes.values()))
+    skipped = [f"{REGIME_LABELS[k]}: {v['skipped']}" for k, v in regimes.items() if v.get("skipped")]
+    if skipped:
+        lines.append("not run — " + "; ".join(skipped))
+    return lines
+
+
+def format_fit(record: dict, tiers=()) -> str:
+    """The table `fit` prints (energies in the record's unit)."""
+    unit = record["units"]
+    lines = [f"{record['n']} members; {record['energy_kind']} in {unit}; learner {record['learner']}; relation "
+             f"{record['relation']}" + (f" (chosen from {record['requested_relation']})"
+                                        if record["requested_relation"] != record["relation"] else ""), ""]
+    lines += regime_table(record)
+    lines.append("cover: share of held-out members inside their own 90 % prediction interval")
+    if record["comparison"]:
+        lines += ["", "leave-one-out, against the black box (MAE difference, 95 % bootstrap interval, Wilcoxon p):"]
+        for k, c in record["comparison"].items():
+            lines.append(f"  {k.replace('_vs_direct', ''):<10} {c['delta_mae']:+.3g} [{c['ci95'][0]:+.3g}, "
+                         f"{c['ci95'][1]:+.3g}]  p = {c['wilcoxon_p']:.2g}")
+    y = record.get("y_randomization")
+    if y:
+        lines.append(f"y-randomisation ({y['n_shuffles']} shuffles): two-stage MAE {y['mae_mean']:.3g} ± "
+                     f"{y['mae_std']:.2g}; the best constant predictor: {y['mean_predictor_mae']:.3g}")
+    lines += ["", "verdict: " + verdict_text(record, unit, tiers),
+              f"the model predicts with the {ROUTE_LABELS.get(record['primary_route'], record['primary_route'])} "
+              f"route (members with a given reaction energy go straight to the curve)"]
+    c = record["curve"]
+    lines.append("curve: " + ", ".join(f"{k} = {v:.4g}" for k, v in c["params"].items()))
+    lines += [f"warning: {w}" for w in record.get("warnings", [])]
+    lines += [f"note: {n}" for n in record.get("notes", [])]
+    lines += ["", CAUTION]
+    return "\n".join(lines)
+
+
+def fit_json(record: dict, tiers=()) -> dict:
+    """The `fit --json` object: the record in its own unit (``record['units']``) with the verdict
+    in words; the curve without its covariance (mixed units) and raw parameter vector."""
+    from .curve_text import identifiability_text
+    from .units import in_unit
+
+    unit = record["units"]
+    curve = {k: v for k, v in record["curve"].items() if k not in ("theta", "cov")}
+    out = in_unit({**record, "curve": curve}, unit)
+    if out["curve"].get("identifiability"):
+        out["curve"]["identifiability"]["message"] = identifiability_text(out["curve"]["identifiability"], unit)
+    out["verdict"] = verdict_text(out, unit, tiers)
+    out["caution"] = CAUTION
+    return out

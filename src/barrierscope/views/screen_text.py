@@ -1,0 +1,40 @@
+"""What `screen` prints: counts, errors by kind, the lowest barriers (in-domain rows first,
+with their domain flag), the floor group, implausible half-lives, and the cautions.
+
+Takes :meth:`ScreenSummary.as_dict` (kcal/mol) and the unit to show.
+"""
+
+from __future__ import annotations
+
+from ..kinetics import format_duration
+from .cautions import CAUTION, rate_note
+from .units import in_unit
+
+
+def format_screen(summary: dict, unit: str, energy_kind: str) -> str:
+    s = in_unit(summary, unit)
+    lines = [f"{s['rows']} rows screened in {s['seconds']:.1f} s: {s['ok']} ok, {s['rows'] - s['ok']} with errors, "
+             f"{s['out_of_domain']} of the ok rows outside the applicability domain; "
+             f"{s['energy_given']} used a given reaction energy"]
+    if s["errors"]:
+        lines.append("errors by kind: " + ", ".join(f"{k} {v}" for k, v in sorted(s["errors"].items(),
+                                                                                  key=lambda kv: -kv[1])))
+    note = rate_note(energy_kind)
+    if note:
+        lines.append(note)
+    if s.get("at_floor"):
+        lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach the curve's floor "
+                     f"({s['floor']:.3g} {unit}): the model cannot order them by barrier; they share rank 1")
+    if s.get("implausible_half_lives"):
+        lines.append(f"{s['implausible_half_lives']} half-lives lie below a picosecond or above the age of the "
+                     f"universe: check the units of the model's data (and of --energy) before reading them")
+    if s.get("top"):
+        lines.append(f"lowest barriers, in-domain rows first ({unit}, 90 % interval; half-life at "
+                     f"{s['temperature']:g} K):")
+        for r in s["top"]:
+            half = format_duration(r["half_life_s"]) if r.get("half_life_s") == r.get("half_life_s") else "—"
+            flag = "in domain" if r["in_domain"] else "OUT OF DOMAIN"
+            lines.append(f"  {r['id']}: {r['barrier']:.2f} [{r['low']:.2f}, {r['high']:.2f}]  {half}  {flag}")
+    lines.append(f"written to {s['output']}")
+    lines.append(CAUTION)
+    return "\n".join(lines)

@@ -1,0 +1,67 @@
+"""What `suggest` prints and its JSON: every pick with its reason in words a chemist can check.
+
+Takes the suggest record (kcal/mol) and the unit to show.
+"""
+
+from __future__ import annotations
+
+from .units import in_unit
+
+
+def reason(p: dict, unit: str) -> str:
+    """Why a pick was made (``p`` already in ``unit``); never cites the candidate itself."""
+    f, e = p["facts"], p["energy"]
+    where = "its computed" if p["energy_given"] else "its predicted"
+    if f["where"] == "downhill":
+        pinned = "is not yet pinned" if f["floor_open"] else "is pinned further"
+        parts = [f"extends the energy span downhill ({where} dE {e:.3g} {unit}, {f['below']:.2g} below the lowest "
+                 f"member), where the floor {pinned}"]
+    elif f["where"] == "uphill":
+        parts = [f"extends the energy span uphill ({where} dE {e:.3g} {unit}, {f['above']:.2g} above the highest "
+                 f"member), where the uphill asymptote is set"]
+    elif f["where"] == "midpoint":
+        parts = [f"sits near the midpoint M ({where} dE {e:.3g} {unit}), where the curvature, and so the width W, "
+                 f"is decided"]
+    else:
+        parts = [f"fills a sparsely sampled part of the curve ({where} dE {e:.3g} {unit}, {f['gap']:.2g} from the "
+                 f"nearest training member)"]
+    if not p["energy_given"] and p["energy_sd"] > 0:
+        parts.append(f"its reaction energy is uncertain by ±{p['energy_sd']:.2g}, which the calculation will settle")
+    d, t = p["ad_distance"], f["threshold"]
+    if d == d and t is not None and d > t:
+        parts.append(f"far from every training member (distance {d:.2g} > {t:.2g}): out of domain, so its current "
+                     f"estimate is extrapolation")
+    elif not p["in_domain"]:
+        parts.append("out of domain: its current estimate is extrapolation")
+    if f["goal"] == "predictions":
+        parts.append("computing it would cut the predictive variance over the candidate pool the most")
+    return "; ".join(parts)
+
+
+def suggest_json(result: dict) -> dict:
+    """The record in its own unit, each pick with its reason."""
+    out = in_unit(result, result["units"])
+    for p in out["picks"]:
+        p["reason"] = reason(p, out["units"])
+    return out
+
+
+def format_suggestions(result: dict) -> str:
+    s = suggest_json(result)
+    unit = s["units"]
+    lines = [f"{s['considered']} of {s['candidates']} candidates considered; goal: {s['goal']}"]
+    if s["already_computed"]:
+        lines.append(f"left out as already computed (same id or structure as a training member): "
+                     f"{s['already_computed']}")
+    if s["left_out"]:
+        lines.append("left out (could not be predicted): " + ", ".join(f"{k} {v}" for k, v in s["left_out"].items()))
+    if len(s["picks"]) < s["k"]:
+        why = (f"only {s['considered']} candidates remain" if s["considered"] < s["k"] else
+               "the other candidates nearly duplicate a pick (same reaction energy within the energy stage's "
+               "uncertainty and alike in descriptors)")
+        lines.append(f"{len(s['picks'])} picks instead of the {s['k']} asked for: {why}")
+    for n, p in enumerate(s["picks"], start=1):
+        flag = "" if p["in_domain"] else "  [out of domain]"
+        lines.append(f"{n:>2}. {p['id']}  score {p['score']:.3g}  dE {p['energy']:.3g} {unit}  barrier "
+                     f"{p['barrier']:.3g} [{p['low']:.3g}, {p['high']:.3g}]{flag}\n    {p['reason']}")
+    return "\n".join(lines)
