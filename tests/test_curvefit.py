@@ -113,11 +113,12 @@ def test_comparison_prefers_the_true_form_and_reports_criteria():
 
 
 def test_information_criteria_formula():
-    # AICc = n ln(RSS/n) + 2k + 2k(k+1)/(n−k−1) with k = p + 1 (Hurvich & Tsai 1989).
+    # AICc = n ln(RSS/n) + 2k + 2k(k+1)/(n−k−1), k = p + 1 (C. M. Hurvich, C.-L. Tsai, Biometrika 1989);
+    # BIC = n ln(RSS/n) + k ln n (G. Schwarz 1978). Worked by hand for RSS = 50, n = 20, p = 3 (k = 4):
+    # 20 ln 2.5 = 18.325815; AICc = 18.325815 + 8 + 40/15 = 28.992481; BIC = 18.325815 + 4 ln 20 = 30.308744.
     aicc, bic = information_criteria(rss=50.0, n=20, n_params=3)
-    k = 4
-    assert aicc == pytest.approx(20 * np.log(2.5) + 2 * k + 2 * k * (k + 1) / (20 - k - 1))
-    assert bic == pytest.approx(20 * np.log(2.5) + k * np.log(20))
+    assert aicc == pytest.approx(28.99248130414977, rel=1e-12)
+    assert bic == pytest.approx(30.308743731699067, rel=1e-12)
 
 
 def test_narrow_span_is_called_not_identifiable_with_the_tangent():

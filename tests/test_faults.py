@@ -35,14 +35,13 @@ def setup(tmp_path_factory):
     return folder, fam, model, lib, env
 
 
-def _kill_after(cmd, delay, env):
+def _kill_after(cmd, delay, env) -> bool:
+    """Run ``cmd``, SIGKILL it after ``delay`` s; True when the kill hit a running process."""
     proc = subprocess.Popen(cmd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     time.sleep(delay)
-    finished = proc.poll() is not None
-    if not finished:
+    if proc.poll() is None:
         os.kill(proc.pid, signal.SIGKILL)
-    proc.wait()
-    return finished
+    return proc.wait() == -signal.SIGKILL
 
 
 @pytest.mark.slow
@@ -50,14 +49,16 @@ def test_sigkill_during_screen_leaves_no_partial_output(setup):
     folder, _, model, lib, env = setup
     out = folder / "screen.csv"
     cmd = [*CLI, "screen", str(model), str(lib), "-o", str(out), "--chunk-size", "2000", "--quiet"]
+    killed = 0
     for delay in (0.3, 1.0, 1.8, 2.6):
         if out.exists():
             out.unlink()
-        _kill_after(cmd, delay, env)
+        killed += _kill_after(cmd, delay, env)
         # Whatever the moment of the kill, the final name holds nothing or the complete result
         # (the rename may have happened just before the kill, while the summary was printing).
         if out.exists():
             assert len(pd.read_csv(out)) == 60000, f"partial output after SIGKILL at {delay} s"
+    assert killed >= 2, "the screen finished before most kills: the test would not test anything"
     subprocess.run(cmd, check=True, env=env)
     res = pd.read_csv(out)
     assert len(res) == 60000 and list(res["row"]) == list(range(1, 60001))
@@ -69,12 +70,9 @@ def test_sigkill_during_fit_leaves_no_model_file(setup):
     folder, fam, _, _, env = setup
     out = folder / "killed.json"
     cmd = [*CLI, "fit", str(fam), "--substituents", "R1,R2", "--energy", "dE", "--barrier", "dG", "-o", str(out),
-           "--shuffles", "20"]
-    _kill_after(cmd, 2.0, env)
-    if out.exists():  # complete, or not there at all
-        from barrierscope.io.modelfile import load_model
-
-        load_model(out)
+           "--shuffles", "400"]
+    assert _kill_after(cmd, 2.5, env), "the fit finished before the kill: the test would not test anything"
+    assert not out.exists(), "a killed fit left a model file under the final name"
     subprocess.run(cmd[:-2] + ["--shuffles", "0"], check=True, env=env, capture_output=True)
     from barrierscope.io.modelfile import load_model
 
@@ -101,7 +99,8 @@ def test_dask_worker_killed_mid_screen_loses_no_rows(setup):
 
         t = threading.Thread(target=run)
         t.start()
-        time.sleep(1.5)
+        time.sleep(1.0)
+        assert t.is_alive(), "the screen finished before the worker was killed: nothing was tested"
         os.kill(pids[0], signal.SIGKILL)  # the nanny restarts it; its tasks run again elsewhere
         t.join(300)
         assert not t.is_alive()

@@ -69,28 +69,26 @@ def test_no_overflow_anywhere():
         assert np.all(np.isfinite(rel.barrier(x, theta))) or name == "linear"
 
 
-@pytest.mark.parametrize("g0", [0.5, 4.0, 11.0, 30.0])
-def test_agmon_levine_is_the_special_case(g0):
-    # F = 0, M = 0, W = G0/ln 2 reproduces the published Agmon–Levine formula
-    # (N. Agmon, R. D. Levine, Chem. Phys. Lett. 1977, 52, 197):
-    #   dG‡ = dG + (G0/ln 2) ln(1 + exp(−dG ln 2 / G0)).
-    x = np.linspace(-60, 60, 241)
-    published = x + (g0 / np.log(2)) * np.log1p(np.exp(-x * np.log(2) / g0))
-    assert np.allclose(asymptotic_barrier(x, 0.0, 0.0, g0 / np.log(2)), published, rtol=1e-12, atol=1e-12)
+def test_agmon_levine_worked_by_hand_and_as_the_special_case():
+    # N. Agmon, R. D. Levine, Chem. Phys. Lett. 1977, 52, 197: dG‡ = dG + (G0/ln 2) ln(1 + exp(−dG ln 2/G0)).
+    # Worked by hand for G0 = 10 kcal/mol (numbers ours): dG = 0 gives G0 = 10; dG = −10 gives
+    # −10 + 10·log2(1 + 2) = 5.849625007211561; dG = +10 gives 10 + 10·log2(1 + 1/2) = 15.84962500721156.
+    x = np.array([-10.0, 0.0, 10.0])
+    hand = [5.849625007211561, 10.0, 15.84962500721156]
     al = get_relation("agmon_levine")
-    assert np.allclose(al.barrier(x, np.array([g0])), published, rtol=1e-12, atol=1e-12)
-    assert al.barrier(np.array([0.0]), np.array([g0]))[0] == pytest.approx(g0, rel=1e-14)
-    assert al.slope(np.array([0.0]), np.array([g0]))[0] == 0.5
+    assert al.barrier(x, np.array([10.0])) == pytest.approx(hand, rel=1e-14)
+    assert al.slope(np.array([0.0]), np.array([10.0]))[0] == 0.5
+    # The asymptotic curve with F = 0, M = 0, W = G0/ln 2 is the same function (METHOD §3.5).
+    assert asymptotic_barrier(x, 0.0, 0.0, 10.0 / np.log(2)) == pytest.approx(hand, rel=1e-14)
 
 
-def test_rehm_weller_published_form():
-    # D. Rehm, A. Weller, Isr. J. Chem. 1970, 8, 259: dG‡ = dG/2 + sqrt((dG/2)^2 + G0^2).
+def test_rehm_weller_worked_by_hand():
+    # D. Rehm, A. Weller, Isr. J. Chem. 1970, 8, 259: dG‡ = dG/2 + sqrt((dG/2)² + G0²). For G0 = 9
+    # (numbers ours, a 9-12-15 right triangle): dG = +24 gives 12 + 15 = 27; dG = −24 gives −12 + 15 = 3;
+    # dG = 0 gives G0. Far downhill the barrier tends to G0²/|dG| (the form's own asymptote).
     rw = get_relation("rehm_weller")
-    x = np.linspace(-80, 80, 161)
-    g0 = 9.0
-    published = x / 2 + np.sqrt((x / 2) ** 2 + g0 ** 2)
-    assert np.allclose(rw.barrier(x, np.array([g0])), published, rtol=1e-12)
-    assert rw.barrier(np.array([-1e8]), np.array([g0]))[0] == pytest.approx(g0 ** 2 / 1e8, rel=1e-6)
+    assert rw.barrier(np.array([-24.0, 0.0, 24.0]), np.array([9.0])) == pytest.approx([3.0, 9.0, 27.0], rel=1e-14)
+    assert rw.barrier(np.array([-1e8]), np.array([9.0]))[0] == pytest.approx(81.0 / 1e8, rel=1e-6)
 
 
 def test_marcus_worked_example():

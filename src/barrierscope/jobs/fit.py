@@ -159,7 +159,7 @@ def fit_file(data, output, structure, tiers: str, opts: FitOptions, *, cache_dir
     import contextlib
 
     from ..io import modelfile
-    from ..io.tables import read_table, write_table
+    from ..io.tables import detect_format, read_table, write_table
     from ..views.members import members_frame
     from .report import write_report
     from .setup import descriptor_engine, structure_spec
@@ -176,7 +176,8 @@ def fit_file(data, output, structure, tiers: str, opts: FitOptions, *, cache_dir
         model, record = fit_family(read_table(data), str(data), spec, engine, opts)
     modelfile.save(model.as_dict(), output)
     if members is not None:
-        write_table(members_frame(record, model.units), members)
+        # Rounded for reading (CSV/TSV); full precision in Parquet, as for screens.
+        write_table(members_frame(record, model.units, rounded=detect_format(members) != "parquet"), members)
     if report is not None or figures is not None:
         write_report(model, record, report, figures, source=str(data))
     return model, record

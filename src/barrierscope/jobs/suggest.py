@@ -48,13 +48,17 @@ def _facts(model, cands: Candidates, c: int, goal: str) -> dict:
 def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", energy_column: str | None = None,
                  energy_units: str | None = None, id_column: str | None = None, cache_dir="default",
                  max_atoms: int = 200, model=None) -> dict:
-    """Picks with scores and the facts behind them, plus what was left out and why."""
+    """Picks with scores and the facts behind them, plus what was left out and why.
+    ``candidates_path`` is a table file, or a DataFrame as :func:`..io.tables.read_table` gives."""
     if k < 1:
         raise ValueError("-k must be at least 1")
     if goal not in GOALS:
         raise ValueError(f"unknown goal {goal!r}; valid choices: {', '.join(GOALS)}")
     model = model if model is not None else load_model(model_path)
-    table = read_table(candidates_path)
+    if hasattr(candidates_path, "columns"):  # a DataFrame read with io.tables (it has the row column)
+        table, candidates_path = candidates_path, "candidates"
+    else:
+        table = read_table(candidates_path)
     if not model.has_structures and energy_column is None:
         energy_column = model.energy_column
     opts = ScreenOptions(energy_column=energy_column, energy_units=energy_units, id_column=id_column,

@@ -33,7 +33,7 @@ ENERGY = frozenset({
     "mae", "rmse", "loo_mae", "loo_rmse", "delta_mae", "ci95", "energy", "barrier", "energy_pred", "energy_sd", "barrier_sd", "pred",
     "low", "high", "mae_mean", "mae_std", "direct_mae_mean", "mean_predictor_mae", "energy_range",
     "barrier_range", "sigma", "span", "center", "barrier_at_center", "intrinsic_barrier", "uphill_excess",
-    "misses", "margin", "floor", "gap", "below", "above",
+    "misses", "margin", "floor", "gap", "below", "above", "energy_stage_importance",
 }) | _REL_ENERGY
 ENERGY_SQUARED = frozenset({"delta_mse", "mse_ci95"})
 PLAIN = frozenset({
