@@ -123,3 +123,32 @@ def test_curve_only_validation():
     res = out_of_fold(None, energy, barrier, loo_splits(20))
     assert set(res.pred) == {"curve_on_true_energy", "family_mean"}
     assert metrics(barrier, res.pred["curve_on_true_energy"])["mae"] < 1.0
+
+
+def test_wilcoxon_matches_scipy_including_ties_and_zeros():
+    # Reference library: scipy.stats.wilcoxon (defaults: zero_method="wilcox", no continuity
+    # correction, exact / permutation / normal approximation by sample size and ties).
+    from barrierscope.validation.metrics import wilcoxon_p
+
+    rng = np.random.default_rng(0)
+    for n in (4, 9, 13, 14, 30, 50, 51, 90):
+        for kind in ("plain", "ties", "zeros"):
+            a, b = np.abs(rng.normal(1, 0.5, n)), np.abs(rng.normal(1.1, 0.5, n))
+            if kind != "plain":
+                a, b = np.round(a, 1), np.round(b, 1)
+            if kind == "zeros":
+                b[:2] = a[:2]
+            assert wilcoxon_p(a, b) == pytest.approx(stats.wilcoxon(a, b).pvalue, abs=1e-12), (n, kind)
+
+
+def test_clusters_are_found_and_every_member_is_held_out_once():
+    from barrierscope.validation.splits import cluster_labels, cluster_splits
+
+    rng = np.random.default_rng(2)
+    centres = np.array([[0, 0, 0], [6, 0, 0], [0, 6, 0]], dtype=float)
+    Z = np.vstack([c + rng.normal(0, 0.5, (8, 3)) for c in centres])
+    labels = cluster_labels(Z, 3)
+    assert sorted(np.bincount(labels)) == [8, 8, 8]
+    splits, why = cluster_splits(Z)
+    assert why == "" and len(splits) == 4  # min(5, 24 // 6) clusters
+    assert sorted(np.concatenate([s.test for s in splits]).tolist()) == list(range(24))

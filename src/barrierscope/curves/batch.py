@@ -87,6 +87,13 @@ def _cost(relation, x, y, w, theta):
     return np.sum(w * r * r, axis=-1)
 
 
+def _normal_equations(relation, x, y, w, theta):
+    """(JᵀWJ, JᵀWr) of each problem at its parameters, from one residual/Jacobian pass."""
+    r, jac = relation.residual_and_jacobian(x, theta, y)        # (k, n), (k, n, p)
+    jwt = (jac * w[..., None]).transpose(0, 2, 1)               # (k, p, n)
+    return jwt @ jac, (jwt @ r[..., None])[..., 0]
+
+
 def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
     m, p = theta.shape
     damping = np.full(m, 1e-3)
@@ -94,29 +101,27 @@ def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
     active = np.ones(m, dtype=bool)
     converged = np.zeros(m, dtype=bool)
     eye = np.eye(p)
+    # The normal equations change only when a step is accepted: a rejected step just raises the
+    # damping and solves again with the same JᵀWJ and JᵀWr.
+    a, g = _normal_equations(relation, x, y, w, theta)
     for _ in range(max_iter):
         idx = np.flatnonzero(active)
         if idx.size == 0:
             break
-        th, wa = theta[idx], w[idx]
-        r = relation.barrier(x, th) - y                         # (k, n)
-        jac = relation.jacobian(x, th)                          # (k, n, p)
-        jwt = (jac * wa[..., None]).transpose(0, 2, 1)          # (k, p, n)
-        a = jwt @ jac                                           # JᵀWJ
-        g = (jwt @ r[..., None])[..., 0]                        # JᵀWr
-        diag = np.einsum("kpp->kp", a)
+        th, ai, gi = theta[idx], a[idx], g[idx]
+        diag = np.einsum("kpp->kp", ai)
         scale = np.where(diag > 0, diag, 1.0)
-        lhs = a + damping[idx, None, None] * scale[:, :, None] * eye
+        lhs = ai + damping[idx, None, None] * scale[:, :, None] * eye
         try:
-            delta = -np.linalg.solve(lhs, g[..., None])[..., 0]
+            delta = -np.linalg.solve(lhs, gi[..., None])[..., 0]
         except np.linalg.LinAlgError:
-            delta = -np.einsum("kpq,kq->kp", np.linalg.pinv(lhs), g)
+            delta = -np.einsum("kpq,kq->kp", np.linalg.pinv(lhs), gi)
         trial = np.clip(th + delta, lo[idx], hi[idx])
-        trial_cost = _cost(relation, x, y, wa, trial)
+        trial_cost = _cost(relation, x, y, w[idx], trial)
         better = trial_cost <= cost[idx]
         stp = trial - th
         # Gauss–Newton's forecast of the decrease (the cost counts Σ w r², hence 2 on g).
-        forecast = -2.0 * np.sum(g * stp, axis=1) - np.einsum("kp,kpq,kq->k", stp, a, stp)
+        forecast = -2.0 * np.sum(gi * stp, axis=1) - np.einsum("kp,kpq,kq->k", stp, ai, stp)
         moved = np.max(np.abs(stp) / (np.abs(th) + 1e-8), axis=1)
         good = idx[better]
         theta[good] = trial[better]
@@ -127,6 +132,9 @@ def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
         done = settled | (damping[idx] > 1e12)
         converged[idx[done]] = True
         active[idx[done]] = False
+        refresh = good[active[good]]
+        if refresh.size:
+            a[refresh], g[refresh] = _normal_equations(relation, x, y, w[refresh], theta[refresh])
     return theta, cost, converged
 
 
@@ -154,32 +162,23 @@ def fit_subsets(relation: Relation, energy, barrier, weights, *, max_iter: int =
                 tol: float = 1e-10) -> SubsetFits:
     """Best fit of ``relation`` to each subset (row of ``weights``, zero = left out).
 
-    Each subset's bounds and starting points come from its own members only; every start
-    of every subset is refined in one vectorised solve and the lowest cost per subset wins.
+    Each subset's bounds and starting points come from its own members only
+    (:meth:`Relation.subset_starts`); every start of every subset is refined in one
+    vectorised solve and the lowest cost per subset wins.
     """
     x = np.asarray(energy, dtype=float)
     y = np.asarray(barrier, dtype=float)
     w = np.atleast_2d(np.asarray(weights, dtype=float))
-    m, p = w.shape[0], relation.n_params
-    owner, starts, lows, highs = [], [], [], []
-    bounds_of = np.empty((m, 2, p))
-    for k in range(m):
-        keep = w[k] > 0
-        lo, hi = relation.bounds(x[keep], y[keep])
-        bounds_of[k] = lo, hi
-        for s in relation.starts(x[keep], y[keep]):
-            owner.append(k)
-            starts.append(interior(s, lo, hi))
-            lows.append(lo)
-            highs.append(hi)
-    owner = np.asarray(owner)
-    theta, cost, conv = lm_solve(relation, x, y, w[owner], np.asarray(starts), np.asarray(lows),
-                                 np.asarray(highs), max_iter=max_iter, tol=tol)
-    order = np.lexsort((cost, owner))
-    first = order[np.r_[True, owner[order][1:] != owner[order][:-1]]]  # lowest cost per subset
-    best = theta[first]
-    return SubsetFits(theta=best, cost=cost[first], converged=conv[first],
-                      at_bound=_at_bound(best, bounds_of[:, 0], bounds_of[:, 1]))
+    lo, hi, starts = relation.subset_starts(x, y, w)                 # (m, p), (m, p), (m, s, p)
+    m, s, p = starts.shape
+    owner = np.repeat(np.arange(m), s)
+    lows, highs = lo[owner], hi[owner]
+    theta, cost, conv = lm_solve(relation, x, y, w[owner], interior(starts.reshape(m * s, p), lows, highs),
+                                 lows, highs, max_iter=max_iter, tol=tol)
+    pick = np.argmin(cost.reshape(m, s), axis=1) + np.arange(m) * s
+    theta_best = theta[pick]
+    return SubsetFits(theta=theta_best, cost=cost[pick], converged=conv[pick],
+                      at_bound=_at_bound(theta_best, lo, hi))
 
 
 def loo_weights(n: int) -> np.ndarray:

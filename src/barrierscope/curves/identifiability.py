@@ -14,7 +14,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from ..relations import LinearRelation
 from .fit import RelationFit, fit_relation
@@ -80,7 +80,7 @@ def assess_identifiability(fit: RelationFit, energy, barrier,
     dof = fit.dof
     if dof > 0 and fit.rss > 0 and line.rss > fit.rss:
         fstat = (line.rss - fit.rss) / (fit.rss / dof)
-        p = float(stats.f.sf(fstat, 1, dof))
+        p = float(special.fdtrc(1, dof, fstat))  # upper tail of F(1, dof)
     else:
         p = 1.0
 

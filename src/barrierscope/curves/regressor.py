@@ -10,9 +10,8 @@ parameters' covariance (through the Jacobian), and the curve's own residual scat
 from __future__ import annotations
 
 import numpy as np
-from sklearn.base import BaseEstimator, RegressorMixin
-from sklearn.utils.validation import check_is_fitted
 
+from ..estimators.base import RegressorProtocol, check_fitted
 from ..relations import DEFAULT_RELATION, get_relation
 from .compare import compare_relations
 from .fit import check_pairs, fit_relation, loss_name
@@ -32,7 +31,7 @@ def energy_column(X) -> np.ndarray:
     return a
 
 
-class CurveRegressor(RegressorMixin, BaseEstimator):
+class CurveRegressor(RegressorProtocol):
     """Barrier (kcal/mol) from reaction energy (kcal/mol) through one fitted relation.
 
     Parameters
@@ -68,6 +67,8 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
     identifiability_ : Identifiability or None (asymptotic curve only)
     comparison_ : Comparison or None (relation="auto")
     """
+
+    _accepts_1d = True   # reaction energies as (n,) or (n, 1), kcal/mol
 
     def __init__(self, relation: str = DEFAULT_RELATION, loss: str = "squared", f_scale: float = 1.0,
                  intervals: str = "profile", n_bootstrap: int = 1000, level: float = 0.95,
@@ -121,16 +122,10 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
             self.identifiability_ = assess_identifiability(fit, x, yv, profile)
         return self
 
-    def __sklearn_tags__(self):
-        tags = super().__sklearn_tags__()
-        tags.input_tags.one_d_array = True   # reaction energies as (n,) or (n, 1), kcal/mol
-        tags.input_tags.two_d_array = True
-        return tags
-
     # -- prediction -------------------------------------------------------------------------
     def predict(self, X, return_std: bool = False, energy_std=None):
         """Barrier (kcal/mol); with ``return_std`` also its predictive standard deviation."""
-        check_is_fitted(self, "params_")
+        check_fitted(self, "params_")
         x = energy_column(X)
         mean = self.relation_.barrier(x, self.params_)
         if not return_std:
@@ -139,7 +134,7 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
 
     def slope(self, X) -> np.ndarray:
         """Local Leffler α at each reaction energy (dimensionless)."""
-        check_is_fitted(self, "params_")
+        check_fitted(self, "params_")
         return self.relation_.slope(energy_column(X), self.params_)
 
     def barrier_variance(self, X, energy_std=None) -> np.ndarray:
@@ -166,23 +161,23 @@ class CurveRegressor(RegressorMixin, BaseEstimator):
 
     def reverse_params(self) -> dict[str, float]:
         """Parameters of the reverse-direction curve (asymptotic relation only)."""
-        check_is_fitted(self, "params_")
+        check_fitted(self, "params_")
         if self.relation_.name != "asymptotic":
             raise ValueError("the reverse-direction curve is defined for the asymptotic relation")
         return self.relation_.as_dict(self.relation_.reverse(self.params_))
 
     def params_dict(self) -> dict[str, float]:
-        check_is_fitted(self, "params_")
+        check_fitted(self, "params_")
         return self.relation_.as_dict(self.params_)
 
     def derived(self) -> dict[str, float]:
-        check_is_fitted(self, "params_")
+        check_fitted(self, "params_")
         return self.relation_.derived(self.params_)
 
     # -- persistence ----------------------------------------------------------------------
     def as_dict(self) -> dict:
         """Everything needed to predict, as plain numbers (kcal/mol)."""
-        check_is_fitted(self, "params_")
+        check_fitted(self, "params_")
         out = {
             "relation": self.relation_.name, "requested_relation": self.relation, "loss": self.loss,
             "params": self.params_dict(), "theta": [float(v) for v in self.params_],

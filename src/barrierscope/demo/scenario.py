@@ -93,16 +93,17 @@ def _truth(pairs, rng):
     return energy, barrier
 
 
-def make_family() -> pd.DataFrame:
-    """The 'computed' members: id, smiles, R1, R2 (as written), dG_r and dG_act in kcal/mol."""
+def make_family(size: int | None = None, seed: int | None = None) -> pd.DataFrame:
+    """The 'computed' members: id, smiles, R1, R2 (as written), dG_r and dG_act in kcal/mol.
+    ``size`` and ``seed`` make other invented families of the same kind (benchmarks)."""
     from ..structures.checks import quiet_rdkit
 
     quiet_rdkit()
     groups = _groups()
-    rng = np.random.default_rng(TRUTH["seeds"]["family"])
+    rng = np.random.default_rng(TRUTH["seeds"]["family"] if seed is None else seed)
     # Spread the para group over the whole σp range so the curvature shows.
     by_sp = sorted(groups, key=lambda e: e.sigma_p)
-    picks = np.linspace(0, len(by_sp) - 1, TRUTH["family_size"]).round().astype(int)
+    picks = np.linspace(0, len(by_sp) - 1, size or TRUTH["family_size"]).round().astype(int)
     pairs = [(by_sp[i], groups[rng.integers(len(groups))]) for i in picks]
     energy, barrier = _truth(pairs, rng)
     return pd.DataFrame({

@@ -10,9 +10,15 @@ ending in ``_``, fitted only through ``fit``):
 Energies are kcal/mol throughout.
 """
 
-from ..curves.regressor import CurveRegressor
-from .descriptor_regressor import DescriptorRegressor
-from .hybrid import HybridRegressor
-from .two_stage import TwoStageRegressor
-
 __all__ = ["CurveRegressor", "DescriptorRegressor", "TwoStageRegressor", "HybridRegressor"]
+
+_WHERE = {"CurveRegressor": "..curves.regressor", "DescriptorRegressor": ".descriptor_regressor",
+          "TwoStageRegressor": ".two_stage", "HybridRegressor": ".hybrid"}
+
+
+def __getattr__(name):  # loaded on first use: the curves package imports this one's base class
+    if name in _WHERE:
+        from importlib import import_module
+
+        return getattr(import_module(_WHERE[name], __name__), name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

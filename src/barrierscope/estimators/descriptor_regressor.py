@@ -9,10 +9,9 @@ estimator can be refitted inside any cross-validation fold without leakage.
 from __future__ import annotations
 
 import numpy as np
-from sklearn.base import BaseEstimator, RegressorMixin
-from sklearn.utils.validation import check_is_fitted
 
-from .learners import check_learner, fit_state, loo_residuals, predict_state
+from .base import RegressorProtocol, check_fitted
+from .learners import check_learner, fit_state, loo_residuals, manifold_excess, predict_state
 from .preprocess import Preprocessor
 
 
@@ -23,7 +22,7 @@ def _matrix(X, columns):
     return A, list(columns) if columns is not None else [f"x{j}" for j in range(A.shape[1])]
 
 
-class DescriptorRegressor(RegressorMixin, BaseEstimator):
+class DescriptorRegressor(RegressorProtocol):
     """Parameters
     ----------
     learner : {"ridge", "pls", "gp", "forest"}
@@ -35,6 +34,8 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
     state_ : dict — the learner's fitted numbers
     n_train_ : int
     """
+
+    _allows_nan = True   # missing descriptors are imputed inside fit
 
     def __init__(self, learner: str = "ridge", random_state: int = 0):
         self.learner = learner
@@ -53,14 +54,9 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
         self.n_train_ = int(y.size)
         return self
 
-    def __sklearn_tags__(self):
-        tags = super().__sklearn_tags__()
-        tags.input_tags.allow_nan = True   # missing descriptors are imputed inside fit
-        return tags
-
     def transform(self, X) -> np.ndarray:
         """The standardised descriptors the learner sees."""
-        check_is_fitted(self, "state_")
+        check_fitted(self, "state_")
         A, _ = _matrix(X, self.preprocessor_.columns)
         return self.preprocessor_.transform(A)
 
@@ -70,6 +66,12 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
         mean, std = predict_state(self.state_, Z)
         return (mean, std) if return_std else mean
 
+    def manifold_excess(self, X) -> np.ndarray:
+        """How far each row's descriptor combination lies outside the training members' (0
+        inside): its predictions were clipped to the training box there (see :mod:`.ridge`)."""
+        check_fitted(self, "state_")
+        return manifold_excess(self.state_, self.transform(X))
+
     def loo_predictions(self, y) -> np.ndarray | None:
         """Exact leave-one-out predictions of the training targets, when available in closed
         form (ridge with its penalty held at the chosen value), else None."""
@@ -77,7 +79,7 @@ class DescriptorRegressor(RegressorMixin, BaseEstimator):
         return None if r is None else np.asarray(y, dtype=float) - r
 
     def as_dict(self) -> dict:
-        check_is_fitted(self, "state_")
+        check_fitted(self, "state_")
         state = {k: (v.tolist() if isinstance(v, np.ndarray) else v) for k, v in self.state_.items()
                  if not k.startswith("_") and k != "loo_residuals"}
         return {"learner": self.learner, "random_state": self.random_state, "n_train": self.n_train_,

@@ -10,9 +10,8 @@ include the energy stage's error, which they do not have.
 from __future__ import annotations
 
 import numpy as np
-from sklearn.base import BaseEstimator, RegressorMixin
-from sklearn.utils.validation import check_is_fitted
 
+from .base import RegressorProtocol, check_fitted
 from ..curves.batch import loo_weights, refit_weighted
 from .descriptor_regressor import DescriptorRegressor
 from .two_stage import TwoStageRegressor, rows
@@ -44,7 +43,7 @@ def out_of_fold_barrier(curve, energy, barrier, energy_oof) -> np.ndarray:
     return curve.relation_.barrier(np.asarray(energy_oof, dtype=float)[:, None], thetas)[:, 0]
 
 
-class HybridRegressor(RegressorMixin, BaseEstimator):
+class HybridRegressor(RegressorProtocol):
     """Two-stage barrier (kcal/mol) plus a correction of its residuals from the descriptors.
 
     Parameters
@@ -60,15 +59,12 @@ class HybridRegressor(RegressorMixin, BaseEstimator):
     oof_residuals_ : ndarray (n,) — the residuals the correction was trained on, kcal/mol
     """
 
+    _allows_nan = True
+
     def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0):
         self.learner = learner
         self.relation = relation
         self.random_state = random_state
-
-    def __sklearn_tags__(self):
-        tags = super().__sklearn_tags__()
-        tags.input_tags.allow_nan = True
-        return tags
 
     def fit(self, X, y, energy=None):
         """X (n, p) descriptors, y (n,) barriers and ``energy`` (n,) reaction energies, kcal/mol."""
@@ -87,7 +83,7 @@ class HybridRegressor(RegressorMixin, BaseEstimator):
         return self
 
     def predict_parts(self, X, energy=None) -> dict:
-        check_is_fitted(self, "correction_")
+        check_fitted(self, "correction_")
         parts = dict(self.two_stage_.predict_parts(X, energy))
         corr, corr_std = self.correction_.predict(X, return_std=True)
         given = parts["energy_given"]
@@ -100,7 +96,7 @@ class HybridRegressor(RegressorMixin, BaseEstimator):
         return (parts["barrier"], parts["barrier_std"]) if return_std else parts["barrier"]
 
     def as_dict(self) -> dict:
-        check_is_fitted(self, "correction_")
+        check_fitted(self, "correction_")
         return {"params": self.get_params(), "two_stage": self.two_stage_.as_dict(),
                 "correction": self.correction_.as_dict()}
 

@@ -5,14 +5,11 @@ a state of plain lists and floats; predictions always come from :func:`predict_s
 a model reloaded from its JSON file predicts exactly what the fitted object predicted.
 Inputs are already imputed and standardised (see :mod:`.preprocess`).
 
-- ``ridge`` (default): ridge regression, penalty chosen by exact leave-one-out on an SVD
-  (D. M. Allen, Technometrics 1974, 16, 125; G. H. Golub, M. Heath, G. Wahba,
-  Technometrics 1979, 21, 215); predictive σ² = s²(1 + h(x)) with h the leverage (T. Hastie,
-  R. Tibshirani, J. Friedman, *The Elements of Statistical Learning*, 2nd ed., 2009, §3.4.1)
-  and s² scaled so that the training members' predictive variance equals their mean
-  squared leave-one-out error.
+- ``ridge`` (default): see :mod:`.ridge` (penalty by exact leave-one-out, leverage-based σ,
+  and the guard against unusual descriptor combinations);
 - ``pls``: partial least squares (S. Wold, M. Sjöström, L. Eriksson, Chemom. Intell. Lab.
-  Syst. 2001, 58, 109), components chosen by 5-fold cross-validation; σ from that CV.
+  Syst. 2001, 58, 109), components chosen by 5-fold cross-validation; σ from that CV; its
+  coefficients lie in the training descriptors' row space, so the ridge's guard applies too.
 - ``gp``: Gaussian process with a constant × RBF + white-noise kernel, hyper-parameters by
   marginal likelihood (C. E. Rasmussen, C. K. I. Williams, *Gaussian Processes for Machine
   Learning*, MIT Press 2006, §2.2 and ch. 5); σ per prediction.
@@ -24,8 +21,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from . import ridge
+from .ridge import RIDGE_ALPHAS  # noqa: F401  (the penalty grid, for tests and docs)
+
 LEARNERS = ("ridge", "pls", "gp", "forest")
-RIDGE_ALPHAS = np.logspace(-3, 4, 36)
 
 
 def check_learner(name: str) -> str:
@@ -38,52 +37,6 @@ def check_learner(name: str) -> str:
 def minimum_members(name: str) -> int:
     """Fewest training members a learner is allowed to fit (each needs some left over)."""
     return {"ridge": 4, "pls": 6, "gp": 5, "forest": 8}[check_learner(name)]
-
-
-# -- ridge ---------------------------------------------------------------------------------
-def _ridge_fit(X: np.ndarray, y: np.ndarray) -> dict:
-    n, p = X.shape
-    y_mean = float(y.mean())
-    yc = y - y_mean
-    if p == 0:
-        resid = yc
-        s2 = float(resid @ resid / max(n - 1, 1))
-        loo = resid * n / max(n - 1, 1)
-        return {"kind": "ridge", "coef": [], "intercept": y_mean, "alpha": 0.0, "s2": s2,
-                "vt": [], "shrink": [], "n": n, "loo_rmse": float(np.sqrt(np.mean(loo ** 2)))}
-    x_mean = X.mean(axis=0)
-    X = X - x_mean  # the intercept is not penalised: centre (standardised input is already centred)
-    U, s, Vt = np.linalg.svd(X, full_matrices=False)
-    Uy = U.T @ yc
-    # Every penalty at once: shrink factors d (penalties × components), fitted values, leverages.
-    d = s ** 2 / (s ** 2 + RIDGE_ALPHAS[:, None])
-    fitted = (d * Uy) @ U.T
-    h = d @ (U ** 2).T + 1.0 / n
-    loo_all = (yc - fitted) / (1.0 - h)
-    mses = np.mean(loo_all ** 2, axis=1)
-    best = int(np.argmin(mses))
-    alpha, mse, loo = float(RIDGE_ALPHAS[best]), float(mses[best]), loo_all[best]
-    coef = Vt.T @ (s / (s ** 2 + alpha) * Uy)
-    # Noise scale from the leave-one-out errors, so that σ(1 + h) matches them at the training
-    # members: the in-sample residual variance on effective degrees of freedom is unstable when
-    # the penalty is small and descriptors are many.
-    s2 = float(mse / (1.0 + np.mean(h[best])))
-    # h(x) = 1/n + Σ_j (x·v_j)² s_j² / (s_j² + α)²: variance of the fitted value in units of s².
-    shrink = s / (s ** 2 + alpha)
-    return {"kind": "ridge", "coef": coef, "intercept": y_mean, "x_mean": x_mean, "alpha": alpha, "s2": s2,
-            "vt": Vt, "shrink": shrink, "n": n, "loo_rmse": float(np.sqrt(mse)), "loo_residuals": loo}
-
-
-def _ridge_predict(state: dict, X: np.ndarray):
-    coef = np.asarray(state["coef"], dtype=float)
-    if coef.size:
-        X = X - np.asarray(state["x_mean"], dtype=float)
-    mean = X @ coef + state["intercept"] if coef.size else np.full(X.shape[0], state["intercept"])
-    h = np.full(X.shape[0], 1.0 / state["n"])
-    if coef.size:
-        proj = X @ np.asarray(state["vt"], dtype=float).T
-        h = h + np.sum((proj * np.asarray(state["shrink"], dtype=float)) ** 2, axis=1)
-    return mean, np.sqrt(state["s2"] * (1.0 + h))
 
 
 # -- PLS -----------------------------------------------------------------------------------
@@ -107,12 +60,18 @@ def _pls_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
     m = PLSRegression(n_components=k, scale=False).fit(X, y)
     coef = np.asarray(m.coef_, dtype=float).reshape(-1)
     intercept = float(np.ravel(m.intercept_)[0])
-    return {"kind": "pls", "coef": coef.tolist(), "intercept": intercept, "n_components": int(k),
-            "cv_rmse": float(np.sqrt(mse))}
+    x_mean = X.mean(axis=0)
+    U, s, Vt = np.linalg.svd(X - x_mean, full_matrices=False)
+    scores = U * s
+    return {"kind": "pls", "coef": coef, "intercept": intercept, "n_components": int(k),
+            "cv_rmse": float(np.sqrt(mse)), "x_mean": x_mean, "vt": Vt, "score_lo": scores.min(axis=0),
+            "score_hi": scores.max(axis=0)}
 
 
 def _pls_predict(state: dict, X: np.ndarray):
-    mean = X @ np.asarray(state["coef"], dtype=float) + state["intercept"]
+    T, _ = ridge.guard(state, X)
+    x = T @ np.asarray(state["vt"]) + np.asarray(state["x_mean"])   # the row back inside the training box
+    mean = x @ np.asarray(state["coef"], dtype=float) + state["intercept"]
     return mean, np.full(X.shape[0], state["cv_rmse"])
 
 
@@ -206,7 +165,7 @@ def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0) ->
     X = np.asarray(X, dtype=float)
     y = np.asarray(y, dtype=float)
     if name == "ridge":
-        return _ridge_fit(X, y)
+        return ridge.fit(X, y)
     if X.shape[1] == 0:
         raise ValueError(f"the {name} learner needs at least one descriptor")
     if name == "pls":
@@ -219,8 +178,16 @@ def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0) ->
 def predict_state(state: dict, X: np.ndarray):
     """(mean, predictive standard deviation) of a fitted learner state, in y's unit."""
     X = np.asarray(X, dtype=float)
-    return {"ridge": _ridge_predict, "pls": _pls_predict, "gp": _gp_predict,
+    return {"ridge": ridge.predict, "pls": _pls_predict, "gp": _gp_predict,
             "forest": _forest_predict}[state["kind"]](state, X)
+
+
+def manifold_excess(state: dict, X: np.ndarray) -> np.ndarray:
+    """How far each row lies outside the training members' descriptor box (0 inside); linear
+    learners only (GP and forest predictions stay within the training targets by themselves)."""
+    if state["kind"] in ("ridge", "pls") and "vt" in state:
+        return ridge.guard(state, np.asarray(X, dtype=float))[1]
+    return np.zeros(np.shape(X)[0])
 
 
 def loo_residuals(state: dict) -> np.ndarray | None:

@@ -13,11 +13,23 @@ rows) and scores by R² of the barrier predicted from descriptors alone.
 from __future__ import annotations
 
 import numpy as np
-from sklearn.base import BaseEstimator, RegressorMixin
-from sklearn.utils.validation import check_is_fitted
 
+from .base import RegressorProtocol, check_fitted
 from ..curves.regressor import CurveRegressor
 from .descriptor_regressor import DescriptorRegressor
+
+
+#: A predicted reaction energy is clipped to the training span widened by this share of the span
+#: on each side (and flagged): the second half of the energy stage's guard (see :mod:`.ridge`).
+ENERGY_MARGIN = 0.25
+
+
+def clip_energy(energy, lo: float, hi: float) -> tuple[np.ndarray, np.ndarray]:
+    """(energies clipped to [lo − m·span, hi + m·span], mask of those clipped), kcal/mol."""
+    e = np.asarray(energy, dtype=float)
+    pad = ENERGY_MARGIN * (hi - lo)
+    out = np.clip(e, lo - pad, hi + pad)
+    return out, out != e
 
 
 def known_energies(energy, n: int) -> np.ndarray:
@@ -43,7 +55,7 @@ def rows(X, idx):
     return X.iloc[idx] if hasattr(X, "iloc") else np.asarray(X)[idx]
 
 
-class TwoStageRegressor(RegressorMixin, BaseEstimator):
+class TwoStageRegressor(RegressorProtocol):
     """Barrier (kcal/mol) from descriptors through the reaction energy.
 
     Parameters
@@ -63,17 +75,14 @@ class TwoStageRegressor(RegressorMixin, BaseEstimator):
     n_features_in_ : int
     """
 
+    _allows_nan = True   # descriptors may be missing (imputed in fit)
+
     def __init__(self, learner: str = "ridge", relation: str = "asymptotic", curve_intervals: str = "none",
                  random_state: int = 0):
         self.learner = learner
         self.relation = relation
         self.curve_intervals = curve_intervals
         self.random_state = random_state
-
-    def __sklearn_tags__(self):
-        tags = super().__sklearn_tags__()
-        tags.input_tags.allow_nan = True   # descriptors may be missing (imputed in fit)
-        return tags
 
     def fit(self, X, y, energy=None):
         """Fit both stages.
@@ -96,21 +105,27 @@ class TwoStageRegressor(RegressorMixin, BaseEstimator):
 
     def predict_parts(self, X, energy=None) -> dict:
         """Per member (kcal/mol): energy (given or predicted), its σ, whether it was given,
-        barrier, its σ, and the local Leffler α."""
-        check_is_fitted(self, "curve_")
+        barrier, its σ, the local Leffler α, and the guard's flags: ``off_manifold`` (an
+        unusual descriptor combination, clipped to the training box) and ``energy_clipped``
+        (a predicted energy beyond the training span plus :data:`ENERGY_MARGIN`)."""
+        check_fitted(self, "curve_")
         n = n_rows(X, energy)
         given = known_energies(energy, n)
         e = given.copy()
         e_std = np.zeros(n)
+        off, clipped = np.zeros(n, dtype=bool), np.zeros(n, dtype=bool)
         need = ~np.isfinite(given)
         if need.any():
             if self.energy_ is None:
                 raise ValueError("this model has no energy stage: every member needs a reaction energy")
             idx = np.flatnonzero(need)
-            e[idx], e_std[idx] = self.energy_.predict(rows(X, idx), return_std=True)
+            Xn = rows(X, idx)
+            raw, e_std[idx] = self.energy_.predict(Xn, return_std=True)
+            e[idx], clipped[idx] = clip_energy(raw, *self.curve_.energy_range_)
+            off[idx] = self.energy_.manifold_excess(Xn) > 0
         barrier, b_std = self.curve_.predict(e, return_std=True, energy_std=e_std)
         return {"energy": e, "energy_std": e_std, "energy_given": ~need, "barrier": barrier,
-                "barrier_std": b_std, "alpha": self.curve_.slope(e)}
+                "barrier_std": b_std, "alpha": self.curve_.slope(e), "off_manifold": off, "energy_clipped": clipped}
 
     def predict(self, X, energy=None, return_std: bool = False):
         """Barriers (kcal/mol); reaction energies given in ``energy`` skip the energy stage."""
@@ -119,7 +134,7 @@ class TwoStageRegressor(RegressorMixin, BaseEstimator):
 
     # -- persistence (plain numbers; see barrierscope.io.modelfile) ------------------------
     def as_dict(self) -> dict:
-        check_is_fitted(self, "curve_")
+        check_fitted(self, "curve_")
         return {"params": self.get_params(), "n_features_in": self.n_features_in_,
                 "energy_stage": None if self.energy_ is None else self.energy_.as_dict(),
                 "curve": self.curve_.as_dict()}

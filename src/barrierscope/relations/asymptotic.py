@@ -78,6 +78,12 @@ class AsymptoticRelation(Relation):
         sigma, _, d_width = logistic_parts(z)
         return stack_jacobian([1.0, -sigma, d_width], np.shape(z))
 
+    def residual_and_jacobian(self, energy, theta, barrier):
+        f, m, w = split_params(theta, 3)
+        z = (np.asarray(energy, dtype=float) - m) / w
+        sigma, sp, d_width = logistic_parts(z)
+        return f + w * sp - barrier, stack_jacobian([1.0, -sigma, d_width], np.shape(z))
+
     def curvature(self, energy, theta):
         """d²barrier/d dE² = α(1 − α)/W, in mol/kcal."""
         f, m, w = split_params(theta, 3)
@@ -117,6 +123,38 @@ class AsymptoticRelation(Relation):
             w = float(np.clip(w, lo[2], hi[2]))
             out.append(np.clip(np.array([yc - w * softplus(z), xc - w * z, w]), lo, hi))
         return out
+
+    def subset_starts(self, energy, barrier, weights):
+        """:meth:`starts` and :meth:`bounds` for many subsets at once (the same numbers: weighted
+        moments stand in for each subset's polynomial fits)."""
+        x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
+        w = (np.atleast_2d(weights) > 0).astype(float)
+        if np.any(w.sum(axis=1) < 3):
+            return super().subset_starts(x, y, weights)
+        big = np.where(w > 0, 0.0, np.inf)
+        x_lo, x_hi = np.min(x + big, axis=1), np.max(x - big, axis=1)
+        y_lo, y_hi = np.min(y + big, axis=1), np.max(y - big, axis=1)
+        span = x_hi - x_lo
+        w_lo, w_hi = np.full_like(span, 0.05), 20.0 * (span + 5.0)
+        lo = np.column_stack([y_lo - 3.0 * w_hi - 10.0, x_lo - 3.0 * w_hi, w_lo])
+        hi = np.column_stack([y_hi + 10.0, x_hi + 3.0 * w_hi, w_hi])
+        n = w.sum(axis=1)
+        xc = (w @ x) / n
+        d = x[None, :] - xc[:, None]
+        # Least-squares line and parabola in (x − xc) through each subset's members.
+        mom = np.stack([np.sum(w * d ** k, axis=1) for k in range(5)], axis=1)          # Σ d^0..d^4
+        rhs = np.stack([np.sum(w * d ** k * y, axis=1) for k in range(3)], axis=1)      # Σ d^k y
+        slope = rhs[:, 1] / mom[:, 2]
+        yc = rhs[:, 0] / n
+        normal = np.stack([mom[:, [0, 1, 2]], mom[:, [1, 2, 3]], mom[:, [2, 3, 4]]], axis=1)
+        q2 = np.linalg.solve(normal, rhs[..., None])[:, 2, 0]
+        a = np.clip(slope, 0.02, 0.98)
+        curv = np.where(q2 > 0, a * (1.0 - a) / (2.0 * np.where(q2 > 0, q2, 1.0)), span)
+        widths = np.column_stack([curv, span / 6.0, span / 3.0, span, 3.0 * span, 10.0 * span])
+        widths = np.clip(widths, lo[:, 2:3], hi[:, 2:3])
+        z = logit(a)[:, None]
+        starts = np.stack([yc[:, None] - widths * softplus(z), xc[:, None] - widths * z, widths], axis=2)
+        return lo, hi, np.clip(starts, lo[:, None, :], hi[:, None, :])
 
     def derived(self, theta):
         f, m, w = (float(v) for v in np.asarray(theta, dtype=float))

@@ -89,6 +89,28 @@ class Relation(ABC):
     def starts(self, energy, barrier) -> list[np.ndarray]:
         """Data-driven starting values; the fit tries each and keeps the best."""
 
+    def subset_starts(self, energy, barrier, weights) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Bounds and starts of every subset (row of ``weights``, zero = left out), each from its
+        own members only: (lo (m, p), hi (m, p), starts (m, s, p)). Relations may vectorise
+        this; by default each subset calls :meth:`bounds` and :meth:`starts`, the shorter
+        lists of starts padded by repeating their first."""
+        x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
+        w = np.atleast_2d(weights)
+        lows, highs, starts = [], [], []
+        for row in w:
+            keep = row > 0
+            lo, hi = self.bounds(x[keep], y[keep])
+            lows.append(lo)
+            highs.append(hi)
+            starts.append([np.asarray(s, dtype=float) for s in self.starts(x[keep], y[keep])])
+        k = max(len(s) for s in starts)
+        return (np.array(lows), np.array(highs),
+                np.array([s + [s[0]] * (k - len(s)) for s in starts]))
+
+    def residual_and_jacobian(self, energy, theta, barrier):
+        """(barrier(energy; θ) − barrier, Jacobian): one pass where a relation can share work."""
+        return self.barrier(energy, theta) - barrier, self.jacobian(energy, theta)
+
     @property
     def n_params(self) -> int:
         return len(self.param_names)

@@ -29,7 +29,7 @@ from ..curves.intervals import t_quantile
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import out_of_fold_energy
-from ..estimators.two_stage import rows
+from ..estimators.two_stage import clip_energy, rows
 from ..relations import RELATIONS, get_relation
 from .splits import Split
 
@@ -80,6 +80,10 @@ class OutOfFold:
     ad_out: np.ndarray | None = None
     energy_pred_outside: np.ndarray | None = None
     energy_true_outside: np.ndarray | None = None
+    #: the energy stage's prediction clipped to the span plus margin / its descriptors clipped to
+    #: the training box (the guard, see estimators.ridge and estimators.two_stage)
+    energy_clipped: np.ndarray | None = None
+    off_manifold: np.ndarray | None = None
 
     def _put(self, route, idx, mean, std, low, high):
         for store, v in ((self.pred, mean), (self.std, std), (self.low, low), (self.high, high)):
@@ -174,9 +178,52 @@ def _nested_curve_barriers(curves: FoldCurves, x, y, splits, e_oof) -> list[np.n
     return out
 
 
+def _fold_fits(X, targets, splits, learner, random_state, oof: bool = False, designs: dict | None = None) -> list[dict]:
+    """Per split: the learner fitted on its training members' targets (``targets``: one value
+    per member, or a list with each split's training targets) — test predictions (``pred``,
+    ``sd``), manifold ``excess``, standardised descriptors (``Z``, ``Zt``) and, with ``oof``, the
+    training members' out-of-fold predictions. Ridge on equal-size splits is fitted for all
+    splits at once (:class:`..estimators.ridge.FoldDesign`, the same numbers); ``designs``
+    keeps the descriptor side of such fits for other targets on the same splits."""
+    per_split = [targets[s.train] for s in splits] if isinstance(targets, np.ndarray) else list(targets)
+    if learner == "ridge" and len({(s.train.size, s.test.size) for s in splits}) == 1:
+        design = _design(X, splits, designs)
+        r = design.solve(np.array(per_split))
+        return [{"pred": r["pred"][k], "sd": r["sd"][k], "excess": r["excess"][k], "Z": design.Z[k],
+                 "Zt": design.Zt[k], "oof": per_split[k] - r["loo"][k]} for k in range(len(splits))]
+    out = []
+    for s, t in zip(splits, per_split):
+        Xtr, Xte = rows(X, s.train), rows(X, s.test)
+        reg = DescriptorRegressor(learner, random_state).fit(Xtr, t)
+        pred, sd = reg.predict(Xte, return_std=True)
+        fit = {"pred": pred, "sd": sd, "excess": reg.manifold_excess(Xte), "Z": reg.transform(Xtr),
+               "Zt": reg.transform(Xte)}
+        if oof:
+            fit["oof"] = out_of_fold_energy(Xtr, t, learner, random_state, fitted=reg)
+        out.append(fit)
+    return out
+
+
+def _design(X, splits, designs):
+    from ..estimators.ridge import FoldDesign
+
+    train, test = np.array([s.train for s in splits]), np.array([s.test for s in splits])
+    key = (id(X), train.tobytes(), test.tobytes())
+    if designs is None or key not in designs:
+        A = X.to_numpy(dtype=float) if hasattr(X, "to_numpy") else np.asarray(X, dtype=float)
+        design = FoldDesign(A, train, test)
+        if designs is None:
+            return design
+        designs[key] = design
+    return designs[key]
+
+
 def out_of_fold(X, energy, barrier, splits: list[Split], *, learner: str = "ridge", relation: str = "asymptotic",
-                level: float = 0.90, random_state: int = 0, routes=ROUTES) -> OutOfFold:
-    """Out-of-fold predictions and ``level`` intervals of every route in ``routes``."""
+                level: float = 0.90, random_state: int = 0, routes=ROUTES, domain: bool = True,
+                designs: dict | None = None) -> OutOfFold:
+    """Out-of-fold predictions and ``level`` intervals of every route in ``routes``; with
+    ``domain``, each held-out member's applicability-domain distance as its split sees it;
+    ``designs`` (a dict) shares the ridge folds' descriptor side between calls on the same X."""
     x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
     n = x.size
     has_x = X is not None and np.shape(X)[1] > 0
@@ -184,11 +231,6 @@ def out_of_fold(X, energy, barrier, splits: list[Split], *, learner: str = "ridg
     out = OutOfFold(n=n, tested=np.zeros(n, dtype=bool), energy_true_outside=np.zeros(n, dtype=bool))
     curves = fold_curves(relation, x, y, splits)
     out.relations = [rel.name for rel in curves.relations]
-    z = float(special.ndtri(0.5 + level / 2))
-    if has_x:
-        out.energy, out.energy_std, out.ad_distance = np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
-        out.ad_out, out.energy_pred_outside = np.zeros(n, dtype=bool), np.zeros(n, dtype=bool)
-    energy_regs, e_oof = [], []
     for k, s in enumerate(splits):
         out.tested[s.test] = True
         span = (x[s.train].min(), x[s.train].max())
@@ -200,35 +242,43 @@ def out_of_fold(X, energy, barrier, splits: list[Split], *, learner: str = "ridg
             sd = float(np.std(yt, ddof=1)) * np.sqrt(1.0 + 1.0 / yt.size) if yt.size > 1 else np.nan
             q = t_quantile(level, max(yt.size - 1, 1))
             out._put("family_mean", s.test, yt.mean(), sd, yt.mean() - q * sd, yt.mean() + q * sd)
-        if not has_x:
-            continue
-        Xtr, Xte = rows(X, s.train), rows(X, s.test)
-        reg = DescriptorRegressor(learner, random_state).fit(Xtr, x[s.train])
-        e_hat, e_sd = reg.predict(Xte, return_std=True)
-        out.energy[s.test], out.energy_std[s.test] = e_hat, e_sd
-        out.energy_pred_outside[s.test] = (e_hat < span[0]) | (e_hat > span[1])
-        domain = ApplicabilityDomain().fit(reg.transform(Xtr), x[s.train])
-        out.ad_distance[s.test] = domain.distance(reg.transform(Xte))
-        out.ad_out[s.test] = out.ad_distance[s.test] > domain.threshold_
-        if "two_stage" in routes:
-            out._put("two_stage", s.test, *curves.predict(k, e_hat, e_sd, level))
-        if "direct" in routes:
-            d, ds = DescriptorRegressor(learner, random_state).fit(Xtr, y[s.train]).predict(Xte, return_std=True)
-            out._put("direct", s.test, d, ds, d - z * ds, d + z * ds)
-        if "hybrid" in routes:
-            energy_regs.append(reg)
-            e_oof.append(out_of_fold_energy(Xtr, x[s.train], learner, random_state, fitted=reg))
-    if has_x and "hybrid" in routes:
-        _hybrid(out, X, x, y, splits, curves, e_oof, learner, random_state, z, level)
+    if has_x:
+        _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, level, routes, domain,
+                           {} if designs is None else designs)
     return out
 
 
-def _hybrid(out, X, x, y, splits, curves, e_oof, learner, random_state, z, level) -> None:
-    nested = _nested_curve_barriers(curves, x, y, splits, e_oof)
+def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, level, routes, domain, designs) -> None:
+    n = x.size
+    z = float(special.ndtri(0.5 + level / 2))
+    for name in ("energy", "energy_std", "ad_distance"):
+        setattr(out, name, np.full(n, np.nan))
+    for name in ("ad_out", "energy_pred_outside", "energy_clipped", "off_manifold"):
+        setattr(out, name, np.zeros(n, dtype=bool))
+    energy_fits = _fold_fits(X, x, splits, learner, random_state, oof="hybrid" in routes, designs=designs)
+    direct_fits = _fold_fits(X, y, splits, learner, random_state, designs=designs) if "direct" in routes else None
     for k, s in enumerate(splits):
-        resid = y[s.train] - nested[k]
-        corr = DescriptorRegressor(learner, random_state).fit(rows(X, s.train), resid)
-        c, cs = corr.predict(rows(X, s.test), return_std=True)
-        base, _, _, _ = curves.predict(k, out.energy[s.test], out.energy_std[s.test], level)
-        h = base + c
-        out._put("hybrid", s.test, h, cs, h - z * cs, h + z * cs)
+        f = energy_fits[k]
+        span = (x[s.train].min(), x[s.train].max())
+        e_hat, clipped = clip_energy(f["pred"], *span)
+        out.energy[s.test], out.energy_std[s.test] = e_hat, f["sd"]
+        out.energy_pred_outside[s.test] = (f["pred"] < span[0]) | (f["pred"] > span[1])
+        out.energy_clipped[s.test], out.off_manifold[s.test] = clipped, f["excess"] > 0
+        if domain:
+            ad = ApplicabilityDomain().fit(f["Z"], x[s.train])
+            out.ad_distance[s.test] = ad.distance(f["Zt"])
+            out.ad_out[s.test] = out.ad_distance[s.test] > ad.threshold_
+        if "two_stage" in routes:
+            out._put("two_stage", s.test, *curves.predict(k, e_hat, f["sd"], level))
+        if direct_fits is not None:
+            d, ds = direct_fits[k]["pred"], direct_fits[k]["sd"]
+            out._put("direct", s.test, d, ds, d - z * ds, d + z * ds)
+    if "hybrid" in routes:
+        # Each split's correction learns that split's out-of-fold residuals of the chain.
+        nested = _nested_curve_barriers(curves, x, y, splits, [f["oof"] for f in energy_fits])
+        corrections = _fold_fits(X, [y[s.train] - nested[k] for k, s in enumerate(splits)], splits, learner,
+                                 random_state, designs=designs)
+        for k, s in enumerate(splits):
+            base = curves.predict(k, out.energy[s.test], out.energy_std[s.test], level)[0]
+            h, cs = base + corrections[k]["pred"], corrections[k]["sd"]
+            out._put("hybrid", s.test, h, cs, h - z * cs, h + z * cs)

@@ -83,11 +83,12 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
     kw = dict(learner=opts.learner, relation=opts.relation, level=opts.level, random_state=opts.random_state)
     record: dict = {"validation": {}}
     loo = None
+    designs: dict = {}  # ridge fold designs shared by every target on the same splits
     for name, regime in plan.items():
         if regime.skipped:
             record["validation"][name] = {"n_test": 0, "routes": {}, "winner": None, "skipped": regime.skipped}
             continue
-        oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, **kw)
+        oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, designs=designs, **kw)
         record["validation"][name] = _regime_record(oof, energy, barrier, ids, opts.random_state)
         if name == "loo":
             loo = oof
@@ -105,5 +106,5 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
     if opts.relation == "auto":
         record["relations_chosen_in_folds"] = {k: loo.relations.count(k) for k in sorted(set(loo.relations))}
     record["y_randomization"] = (y_randomization(X, energy, barrier, opts.learner, opts.relation, opts.n_shuffles,
-                                                 opts.random_state) if has_x and opts.n_shuffles else None)
+                                                 opts.random_state, designs) if has_x and opts.n_shuffles else None)
     return record

@@ -27,7 +27,7 @@ def constant_predictor_loo_mae(y) -> float:
 
 
 def y_randomization(X, energy, barrier, learner: str, relation: str, n_shuffles: int = 5,
-                    random_state: int = 0) -> dict:
+                    random_state: int = 0, designs: dict | None = None) -> dict:
     """Leave-one-out MAE of the two-stage and direct routes refitted on shuffled pairs."""
     rng = np.random.default_rng(random_state)
     energy = np.asarray(energy, dtype=float)
@@ -37,7 +37,8 @@ def y_randomization(X, energy, barrier, learner: str, relation: str, n_shuffles:
     for _ in range(n_shuffles):
         perm = rng.permutation(energy.size)
         res = out_of_fold(X, energy[perm], barrier[perm], splits, learner=learner, relation=relation,
-                          random_state=random_state, routes=("two_stage", "direct"))
+                          random_state=random_state, routes=("two_stage", "direct"), domain=False,
+                          designs=designs)
         for r in maes:
             if r in res.pred:
                 maes[r].append(float(np.mean(np.abs(res.pred[r] - barrier[perm]))))
