@@ -68,7 +68,8 @@ def test_forest_matches_scikit_learn():
     X, energy, _ = invented(n=40)
     reg = DescriptorRegressor("forest").fit(X, energy)
     Z = reg.transform(X)
-    rf = RandomForestRegressor(n_estimators=200, min_samples_leaf=2, oob_score=True, random_state=0).fit(Z, energy)
+    rf = RandomForestRegressor(n_estimators=100, min_samples_leaf=2, max_features=1 / 3, oob_score=True,
+                               random_state=0).fit(Z, energy)
     assert np.allclose(reg.predict(X), rf.predict(Z), atol=1e-9)
 
 
@@ -88,7 +89,7 @@ def test_gp_matches_scikit_learn():
 
 def test_scikit_learn_conventions():
     reg = DescriptorRegressor("pls", random_state=3)
-    assert clone(reg).get_params() == {"learner": "pls", "random_state": 3}
+    assert clone(reg).get_params() == {"learner": "pls", "random_state": 3, "effort": "full"}
     with pytest.raises(ValueError, match="valid choices: ridge, pls, gp, forest"):
         DescriptorRegressor("svm").fit(*invented(n=10)[:2])
 

@@ -22,11 +22,25 @@ def _matrix(X, columns):
     return A, list(columns) if columns is not None else [f"x{j}" for j in range(A.shape[1])]
 
 
+def _plain(v):
+    """Numbers and lists only (the forest's trees are dicts of arrays)."""
+    if isinstance(v, np.ndarray):
+        return v.tolist()
+    if isinstance(v, dict):
+        return {k: _plain(x) for k, x in v.items()}
+    if isinstance(v, list):
+        return [_plain(x) for x in v]
+    return v
+
+
 class DescriptorRegressor(RegressorProtocol):
     """Parameters
     ----------
     learner : {"ridge", "pls", "gp", "forest"}
     random_state : int
+    effort : {"full", "refit"}
+        ``"refit"`` bounds the cost of a validation refit: forests of half the trees (a
+        Gaussian process's search is bounded by ``warm_start`` instead).
 
     Attributes
     ----------
@@ -37,11 +51,15 @@ class DescriptorRegressor(RegressorProtocol):
 
     _allows_nan = True   # missing descriptors are imputed inside fit
 
-    def __init__(self, learner: str = "ridge", random_state: int = 0):
+    def __init__(self, learner: str = "ridge", random_state: int = 0, effort: str = "full"):
         self.learner = learner
         self.random_state = random_state
+        self.effort = effort
 
-    def fit(self, X, y, columns=None):
+    def fit(self, X, y, columns=None, warm_start=None):
+        """Fit on descriptors X (n, p; NaN = missing) and target y (n,). ``warm_start``: a fitted
+        DescriptorRegressor of the same learner whose hyper-parameters start this fit's search
+        (Gaussian process only; validation refits use it to bound their cost)."""
         A, cols = _matrix(X, columns)
         y = np.asarray(y, dtype=float).ravel()
         if A.shape[0] != y.size:
@@ -50,7 +68,8 @@ class DescriptorRegressor(RegressorProtocol):
             raise ValueError("the target has non-finite values")
         self.preprocessor_ = Preprocessor.fit(A, cols)
         Z = self.preprocessor_.transform(A)
-        self.state_ = fit_state(check_learner(self.learner), Z, y, self.random_state)
+        warm = getattr(warm_start, "state_", None)
+        self.state_ = fit_state(check_learner(self.learner), Z, y, self.random_state, warm, self.effort)
         self.n_train_ = int(y.size)
         return self
 
@@ -80,14 +99,13 @@ class DescriptorRegressor(RegressorProtocol):
 
     def as_dict(self) -> dict:
         check_fitted(self, "state_")
-        state = {k: (v.tolist() if isinstance(v, np.ndarray) else v) for k, v in self.state_.items()
-                 if not k.startswith("_") and k != "loo_residuals"}
-        return {"learner": self.learner, "random_state": self.random_state, "n_train": self.n_train_,
+        state = {k: _plain(v) for k, v in self.state_.items() if not k.startswith("_") and k != "loo_residuals"}
+        return {"learner": self.learner, "random_state": self.random_state, "effort": self.effort, "n_train": self.n_train_,
                 "preprocess": self.preprocessor_.as_dict(), "state": state}
 
     @classmethod
     def from_dict(cls, d: dict) -> "DescriptorRegressor":
-        self = cls(learner=d["learner"], random_state=d.get("random_state", 0))
+        self = cls(learner=d["learner"], random_state=d.get("random_state", 0), effort=d.get("effort", "full"))
         self.preprocessor_ = Preprocessor.from_dict(d["preprocess"])
         self.state_ = dict(d["state"])
         self.n_train_ = int(d["n_train"])

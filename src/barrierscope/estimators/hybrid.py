@@ -24,8 +24,9 @@ def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, fitted: D
     energy = np.asarray(energy, dtype=float)
     reg = fitted if fitted is not None else DescriptorRegressor(learner, random_state).fit(X, energy)
     loo = reg.loo_predictions(energy)
-    if loo is not None:
-        return loo
+    if loo is not None:  # closed form (ridge, GP) or out-of-bag (forest: a member in every tree's sample has none)
+        missing = ~np.isfinite(loo)
+        return np.where(missing, reg.predict(X) if missing.any() else loo, loo)
     from sklearn.model_selection import KFold
 
     out = np.empty(energy.size)

@@ -25,6 +25,11 @@ from . import ridge
 from .ridge import RIDGE_ALPHAS  # noqa: F401  (the penalty grid, for tests and docs)
 
 LEARNERS = ("ridge", "pls", "gp", "forest")
+#: Trees per forest: its out-of-bag error is steady by about a hundred trees on tens of members
+#: (L. Breiman 2001, §3: the error converges as trees are added); validation refits, which
+#: refit it in every split, grow half as many (``effort="refit"``, reported).
+FOREST_TREES = 100
+REFIT_FOREST_TREES = 50
 
 
 def check_learner(name: str) -> str:
@@ -40,31 +45,57 @@ def minimum_members(name: str) -> int:
 
 
 # -- PLS -----------------------------------------------------------------------------------
-def _pls_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
-    from sklearn.cross_decomposition import PLSRegression
-    from sklearn.model_selection import KFold
+def pls1_coefficients(X: np.ndarray, y: np.ndarray, k: int) -> tuple[np.ndarray, np.ndarray]:
+    """Regression coefficients of PLS1 (NIPALS for one target; S. Wold, M. Sjöström,
+    L. Eriksson, Chemom. Intell. Lab. Syst. 2001, 58, 109) with 1..k components, at once:
+    (coefficients (k, p) on centred X, their intercepts (k,)). X is not rescaled."""
+    x_mean, y_mean = X.mean(axis=0), float(y.mean())
+    E, f = X - x_mean, y - y_mean
+    W, P, q = [], [], []
+    for _ in range(k):
+        w = E.T @ f
+        norm = np.linalg.norm(w)
+        if norm <= 1e-14:
+            break
+        w /= norm
+        t = E @ w
+        tt = float(t @ t)
+        if tt <= 1e-14:
+            break
+        p_ = E.T @ t / tt
+        q_ = float(f @ t) / tt
+        E = E - np.outer(t, p_)
+        f = f - q_ * t
+        W.append(w), P.append(p_), q.append(q_)
+    W, P, q = np.array(W).T, np.array(P).T, np.array(q)
+    coefs = []
+    for j in range(1, k + 1):
+        m = min(j, W.shape[1])
+        coefs.append(W[:, :m] @ np.linalg.solve(P[:, :m].T @ W[:, :m], q[:m]))
+    coefs = np.array(coefs)
+    return coefs, y_mean - coefs @ x_mean
 
+
+def _pls_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
+    """Components (1 to 5) chosen by 5-fold cross-validation; σ from that cross-validation."""
     n, p = X.shape
     max_k = max(1, min(5, p, n - 2))
-    folds = list(KFold(n_splits=min(5, n), shuffle=True, random_state=random_state).split(X))
-    best = None
-    for k in range(1, max_k + 1):
-        err = np.empty(n)
-        for tr, te in folds:
-            m = PLSRegression(n_components=min(k, len(tr) - 1, p), scale=False).fit(X[tr], y[tr])
-            err[te] = y[te] - m.predict(X[te]).ravel()
-        mse = float(np.mean(err ** 2))
-        if best is None or mse < best[0]:
-            best = (mse, k)
-    mse, k = best
-    m = PLSRegression(n_components=k, scale=False).fit(X, y)
-    coef = np.asarray(m.coef_, dtype=float).reshape(-1)
-    intercept = float(np.ravel(m.intercept_)[0])
+    perm = np.random.default_rng(random_state).permutation(n)
+    err = np.empty((max_k, n))
+    for fold in np.array_split(perm, min(5, n)):
+        train = np.setdiff1d(np.arange(n), fold)
+        coefs, b0 = pls1_coefficients(X[train], y[train], min(max_k, train.size - 1))
+        pred = X[fold] @ coefs.T + b0                                  # (fold, k)
+        err[: coefs.shape[0], fold] = (y[fold][:, None] - pred).T
+        err[coefs.shape[0]:, fold] = err[coefs.shape[0] - 1, fold]
+    mses = np.mean(err ** 2, axis=1)
+    k = int(np.argmin(mses)) + 1
+    coefs, b0 = pls1_coefficients(X, y, k)
     x_mean = X.mean(axis=0)
     U, s, Vt = np.linalg.svd(X - x_mean, full_matrices=False)
     scores = U * s
-    return {"kind": "pls", "coef": coef, "intercept": intercept, "n_components": int(k),
-            "cv_rmse": float(np.sqrt(mse)), "x_mean": x_mean, "vt": Vt, "score_lo": scores.min(axis=0),
+    return {"kind": "pls", "coef": coefs[-1], "intercept": float(b0[-1]), "n_components": k,
+            "cv_rmse": float(np.sqrt(mses[k - 1])), "x_mean": x_mean, "vt": Vt, "score_lo": scores.min(axis=0),
             "score_hi": scores.max(axis=0)}
 
 
@@ -79,20 +110,40 @@ def _pls_predict(state: dict, X: np.ndarray):
 _GP_JITTER = 1e-10  # scikit-learn's default `alpha` added to the training diagonal
 
 
-def _gp_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
+_GP_BOUNDS = {"constant": (1e-3, 1e3), "length_scale": (1e-2, 1e3), "noise": (1e-6, 1e1)}
+
+
+def _gp_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0, warm: dict | None = None) -> dict:
+    """Hyper-parameters by marginal likelihood: two random restarts from the default start, or
+    one local search from ``warm`` (a fitted GP state: validation refits start from the
+    family's own optimum, a bounded cost). Optimiser warnings are counted, not printed."""
+    import warnings
+
+    from sklearn.exceptions import ConvergenceWarning
     from sklearn.gaussian_process import GaussianProcessRegressor
     from sklearn.gaussian_process.kernels import RBF, ConstantKernel, WhiteKernel
 
     n, p = X.shape
-    kernel = (ConstantKernel(1.0, (1e-3, 1e3)) * RBF(length_scale=max(np.sqrt(p), 1.0), length_scale_bounds=(1e-2, 1e3))
-              + WhiteKernel(0.1, (1e-6, 1e1)))
-    gp = GaussianProcessRegressor(kernel=kernel, normalize_y=True, n_restarts_optimizer=2,
-                                  random_state=random_state).fit(X, y)
+    start = warm or {"constant": 1.0, "length_scale": max(np.sqrt(p), 1.0), "noise": 0.1}
+    kernel = (ConstantKernel(start["constant"], _GP_BOUNDS["constant"])
+              * RBF(length_scale=start["length_scale"], length_scale_bounds=_GP_BOUNDS["length_scale"])
+              + WhiteKernel(start["noise"], _GP_BOUNDS["noise"]))
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", ConvergenceWarning)
+        gp = GaussianProcessRegressor(kernel=kernel, normalize_y=True, n_restarts_optimizer=0 if warm else 2,
+                                      random_state=random_state).fit(X, y)
     params = gp.kernel_.get_params()
     y_mean, y_std = float(np.mean(y)), float(np.std(y)) or 1.0
-    return {"kind": "gp", "X": X.tolist(), "y": ((y - y_mean) / y_std).tolist(), "y_mean": y_mean, "y_std": y_std,
-            "constant": float(params["k1__k1__constant_value"]), "length_scale": float(params["k1__k2__length_scale"]),
-            "noise": float(params["k2__noise_level"])}
+    state = {"kind": "gp", "X": X, "y": (y - y_mean) / y_std, "y_mean": y_mean, "y_std": y_std,
+             "constant": float(params["k1__k1__constant_value"]), "length_scale": float(params["k1__k2__length_scale"]),
+             "noise": float(params["k2__noise_level"]),
+             "capped": sum(issubclass(w.category, ConvergenceWarning) for w in caught)}
+    _, L, alpha = _gp_parts(state)
+    # Exact leave-one-out at these hyper-parameters: y_i − μ_−i = [K⁻¹y]_i / [K⁻¹]_ii
+    # (C. E. Rasmussen, C. K. I. Williams 2006, eq. 5.12), in y's unit.
+    k_inv_diag = np.sum(np.linalg.inv(L) ** 2, axis=0)
+    state["loo_residuals"] = alpha / k_inv_diag * y_std
+    return state
 
 
 def _gp_parts(state: dict):
@@ -122,10 +173,11 @@ def _gp_predict(state: dict, X: np.ndarray):
 
 
 # -- random forest -------------------------------------------------------------------------
-def _forest_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
+def _forest_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0, trees: int = FOREST_TREES) -> dict:
     from sklearn.ensemble import RandomForestRegressor
 
-    rf = RandomForestRegressor(n_estimators=200, min_samples_leaf=2, oob_score=True,
+    # A third of the descriptors tried at each split, Breiman's choice for regression (2001, §11).
+    rf = RandomForestRegressor(n_estimators=trees, min_samples_leaf=2, max_features=1 / 3, oob_score=True,
                                random_state=random_state, n_jobs=1).fit(X, y)
     oob = np.asarray(rf.oob_prediction_, dtype=float)
     ok = np.isfinite(oob)
@@ -133,10 +185,10 @@ def _forest_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
     trees = []
     for est in rf.estimators_:
         t = est.tree_
-        trees.append({"left": t.children_left.tolist(), "right": t.children_right.tolist(),
-                      "feature": t.feature.tolist(), "threshold": t.threshold.tolist(),
-                      "value": t.value[:, 0, 0].tolist()})
-    return {"kind": "forest", "trees": trees, "oob_rmse": rmse}
+        trees.append({"left": t.children_left.copy(), "right": t.children_right.copy(),
+                      "feature": t.feature.copy(), "threshold": t.threshold.copy(), "value": t.value[:, 0, 0].copy()})
+    # The out-of-bag predictions are each member's prediction by the trees that did not see it.
+    return {"kind": "forest", "trees": trees, "oob_rmse": rmse, "loo_residuals": np.where(ok, y - oob, np.nan)}
 
 
 def _forest_predict(state: dict, X: np.ndarray):
@@ -159,8 +211,11 @@ def _forest_predict(state: dict, X: np.ndarray):
     return total / len(state["trees"]), np.full(X.shape[0], state["oob_rmse"])
 
 
-def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
-    """Fit learner ``name`` on (X, y) and return its state (plain data)."""
+def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, warm: dict | None = None,
+              effort: str = "full") -> dict:
+    """Fit learner ``name`` on (X, y) and return its state (plain data); ``warm`` a state of the
+    same learner to start a Gaussian process's hyper-parameter search from; ``effort="refit"``
+    bounds the cost of validation refits (forests of :data:`REFIT_FOREST_TREES` trees)."""
     name = check_learner(name)
     X = np.asarray(X, dtype=float)
     y = np.asarray(y, dtype=float)
@@ -171,8 +226,8 @@ def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0) ->
     if name == "pls":
         return _pls_fit(X, y, random_state)
     if name == "gp":
-        return _gp_fit(X, y, random_state)
-    return _forest_fit(X, y, random_state)
+        return _gp_fit(X, y, random_state, warm if warm and warm.get("kind") == "gp" else None)
+    return _forest_fit(X, y, random_state, REFIT_FOREST_TREES if effort == "refit" else FOREST_TREES)
 
 
 def predict_state(state: dict, X: np.ndarray):

@@ -117,6 +117,7 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
                       ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
                                         opts.regimes))
     primary = primary_route(record["validation"]["loo"], record["routes"]) if has_x else "two_stage"
+    notes += record.pop("notes", [])
     record.update({"n": pairs.n, "units": unit, "energy_kind": kind, "learner": opts.learner,
                    "relation": curve.relation_.name, "requested_relation": opts.relation,
                    "features": list(X.columns) if has_x else [], "energy_stage_importance": importance,

@@ -84,6 +84,9 @@ class OutOfFold:
     #: the training box (the guard, see estimators.ridge and estimators.two_stage)
     energy_clipped: np.ndarray | None = None
     off_manifold: np.ndarray | None = None
+    #: fits whose hyper-parameter search ended at a bound (Gaussian process), out of ``fits``
+    optimizer_capped: int = 0
+    fits: int = 0
 
     def _put(self, route, idx, mean, std, low, high):
         for store, v in ((self.pred, mean), (self.std, std), (self.low, low), (self.high, high)):
@@ -178,13 +181,15 @@ def _nested_curve_barriers(curves: FoldCurves, x, y, splits, e_oof) -> list[np.n
     return out
 
 
-def _fold_fits(X, targets, splits, learner, random_state, oof: bool = False, designs: dict | None = None) -> list[dict]:
+def _fold_fits(X, targets, splits, learner, random_state, oof: bool = False, designs: dict | None = None,
+               warm=None) -> list[dict]:
     """Per split: the learner fitted on its training members' targets (``targets``: one value
     per member, or a list with each split's training targets) — test predictions (``pred``,
     ``sd``), manifold ``excess``, standardised descriptors (``Z``, ``Zt``) and, with ``oof``, the
     training members' out-of-fold predictions. Ridge on equal-size splits is fitted for all
     splits at once (:class:`..estimators.ridge.FoldDesign`, the same numbers); ``designs``
-    keeps the descriptor side of such fits for other targets on the same splits."""
+    keeps the descriptor side of such fits for other targets on the same splits; ``warm`` (a
+    fitted DescriptorRegressor) starts the other learners' hyper-parameter searches."""
     per_split = [targets[s.train] for s in splits] if isinstance(targets, np.ndarray) else list(targets)
     if learner == "ridge" and len({(s.train.size, s.test.size) for s in splits}) == 1:
         design = _design(X, splits, designs)
@@ -194,10 +199,10 @@ def _fold_fits(X, targets, splits, learner, random_state, oof: bool = False, des
     out = []
     for s, t in zip(splits, per_split):
         Xtr, Xte = rows(X, s.train), rows(X, s.test)
-        reg = DescriptorRegressor(learner, random_state).fit(Xtr, t)
+        reg = DescriptorRegressor(learner, random_state, effort="refit").fit(Xtr, t, warm_start=warm)
         pred, sd = reg.predict(Xte, return_std=True)
         fit = {"pred": pred, "sd": sd, "excess": reg.manifold_excess(Xte), "Z": reg.transform(Xtr),
-               "Zt": reg.transform(Xte)}
+               "Zt": reg.transform(Xte), "capped": int(reg.state_.get("capped", 0))}
         if oof:
             fit["oof"] = out_of_fold_energy(Xtr, t, learner, random_state, fitted=reg)
         out.append(fit)
@@ -255,8 +260,16 @@ def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, leve
         setattr(out, name, np.full(n, np.nan))
     for name in ("ad_out", "energy_pred_outside", "energy_clipped", "off_manifold"):
         setattr(out, name, np.zeros(n, dtype=bool))
-    energy_fits = _fold_fits(X, x, splits, learner, random_state, oof="hybrid" in routes, designs=designs)
-    direct_fits = _fold_fits(X, y, splits, learner, random_state, designs=designs) if "direct" in routes else None
+    # Learners with a hyper-parameter search start every split's search from the family's own
+    # optimum (a warm start, as for the curve): a bounded cost, and no split sees another's members.
+    warm_e = warm_d = None
+    if learner != "ridge":
+        warm_e = DescriptorRegressor(learner, random_state).fit(X, x)
+        warm_d = DescriptorRegressor(learner, random_state).fit(X, y) if "direct" in routes else None
+    energy_fits = _fold_fits(X, x, splits, learner, random_state, oof="hybrid" in routes, designs=designs,
+                             warm=warm_e)
+    direct_fits = (_fold_fits(X, y, splits, learner, random_state, designs=designs, warm=warm_d)
+                   if "direct" in routes else None)
     for k, s in enumerate(splits):
         f = energy_fits[k]
         span = (x[s.train].min(), x[s.train].max())
@@ -277,7 +290,12 @@ def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, leve
         # Each split's correction learns that split's out-of-fold residuals of the chain.
         nested = _nested_curve_barriers(curves, x, y, splits, [f["oof"] for f in energy_fits])
         corrections = _fold_fits(X, [y[s.train] - nested[k] for k, s in enumerate(splits)], splits, learner,
-                                 random_state, designs=designs)
+                                 random_state, designs=designs, warm=warm_e)
+    else:
+        corrections = []
+    out.optimizer_capped = sum(f.get("capped", 0) for f in [*energy_fits, *(direct_fits or []), *corrections])
+    out.fits = len(energy_fits) + len(direct_fits or []) + len(corrections)
+    if "hybrid" in routes:
         for k, s in enumerate(splits):
             base = curves.predict(k, out.energy[s.test], out.energy_std[s.test], level)[0]
             h, cs = base + corrections[k]["pred"], corrections[k]["sd"]

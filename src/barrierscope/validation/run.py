@@ -20,6 +20,11 @@ from .splits import REGIMES, regimes
 from .verdict import decide
 from .yrandom import y_randomization
 
+#: Learners whose every refit runs a hyper-parameter search (or grows a forest): their
+#: y-randomisation keeps at most this many shuffles, and says so.
+SLOW_LEARNERS = ("gp", "forest")
+SLOW_SHUFFLES = 2
+
 #: |residual| above this many robust standard deviations marks a member as unusual (common
 #: practice for outlier screening: about 3σ; the σ is 1.4826·MAD of the residuals).
 UNUSUAL_Z = 3.0
@@ -81,8 +86,9 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
     has_x = X is not None and np.shape(X)[1] > 0
     plan = regimes(energy, standardised(X) if has_x else None, opts.random_state, opts.regimes)
     kw = dict(learner=opts.learner, relation=opts.relation, level=opts.level, random_state=opts.random_state)
-    record: dict = {"validation": {}}
+    record: dict = {"validation": {}, "notes": []}
     loo = None
+    capped = fits = 0
     designs: dict = {}  # ridge fold designs shared by every target on the same splits
     for name, regime in plan.items():
         if regime.skipped:
@@ -90,6 +96,7 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
             continue
         oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, designs=designs, **kw)
         record["validation"][name] = _regime_record(oof, energy, barrier, ids, opts.random_state)
+        capped, fits = capped + oof.optimizer_capped, fits + oof.fits
         if name == "loo":
             loo = oof
     if loo is None:
@@ -105,6 +112,19 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
     record["members"] = _members(loo, energy, barrier, ids)
     if opts.relation == "auto":
         record["relations_chosen_in_folds"] = {k: loo.relations.count(k) for k in sorted(set(loo.relations))}
-    record["y_randomization"] = (y_randomization(X, energy, barrier, opts.learner, opts.relation, opts.n_shuffles,
-                                                 opts.random_state, designs) if has_x and opts.n_shuffles else None)
+    shuffles = opts.n_shuffles
+    if opts.learner in SLOW_LEARNERS and shuffles > SLOW_SHUFFLES:
+        shuffles = SLOW_SHUFFLES
+        record["notes"].append(f"y-randomisation capped at {SLOW_SHUFFLES} shuffles for the {opts.learner} learner "
+                               f"(each shuffle refits it in every fold); --shuffles asked for {opts.n_shuffles}")
+    if opts.learner == "forest":
+        from ..estimators.learners import FOREST_TREES, REFIT_FOREST_TREES
+
+        record["notes"].append(f"validation refits grow forests of {REFIT_FOREST_TREES} trees (the model's has "
+                               f"{FOREST_TREES}): a bounded cost, every split refitting the forest")
+    if capped:
+        record["notes"].append(f"the {opts.learner} learner's hyper-parameter search stopped at a bound or an "
+                               f"iteration limit in {capped} of {fits} validation refits; those fits stand")
+    record["y_randomization"] = (y_randomization(X, energy, barrier, opts.learner, opts.relation, shuffles,
+                                                 opts.random_state, designs) if has_x and shuffles else None)
     return record
