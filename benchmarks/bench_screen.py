@@ -3,11 +3,14 @@
 Reports, in one run: rows/s of `barrierscope screen` with 1 and 2 workers against a plain
 RDKit parse loop over the same SMILES; peak memory (max RSS of the screen and its workers)
 at 10^5 and 10^6 rows; and rows/s in substituent mode with cached descriptors.
-Targets (issue 5): one worker at least 0.5 of the parse rate; two workers at least 1.7
-times one; peak memory at 10^6 rows at most 1.5 times that at 10^5; substituent mode above
-10^5 rows/s. The model is fitted on an invented 30-member family of the same core.
+Targets: one worker at least 0.5 of the parse rate; two workers at least 1.8 times one; peak
+memory at the large size at most 1.5 times that at the small one; substituent mode above
+10^5 rows/s. The parse rate is measured right before and right after the screens and
+averaged (this machine's speed drifts). Screen times are inside the process, after start-up
+(2–3 s, once per run); the model is fitted on an invented 30-member family of the same core.
 
-    python benchmarks/bench_screen.py [--n 1000000] [--small 100000]
+    python benchmarks/bench_screen.py [--n 64000] [--small 16000]     # the issue's 64,000 rows
+    python benchmarks/bench_screen.py --n 1000000 --small 100000      # memory at 10^6 rows
 """
 
 from __future__ import annotations
@@ -82,8 +85,8 @@ def fit_model(folder: Path, cache: Path) -> Path:
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--n", type=int, default=1_000_000)
-    ap.add_argument("--small", type=int, default=100_000)
+    ap.add_argument("--n", type=int, default=64_000)
+    ap.add_argument("--small", type=int, default=16_000)
     args = ap.parse_args()
     RDLogger.DisableLog("rdApp.*")
     with tempfile.TemporaryDirectory() as tmp:
@@ -98,17 +101,21 @@ def main() -> None:
         print(f"built {args.n} rows in {time.perf_counter() - t0:.0f} s ({len(set(smiles))} distinct molecules)")
         model = fit_model(folder, cache)
 
-        t0 = time.perf_counter()
-        for s in smiles:
-            Chem.MolFromSmiles(s)
-        parse = args.n / (time.perf_counter() - t0)
+        def parse_rate() -> float:
+            t0 = time.perf_counter()
+            for s in smiles:
+                Chem.MolFromSmiles(s)
+            return args.n / (time.perf_counter() - t0)
+
+        before = parse_rate()
         one = screen(model, big, folder / "o1.csv", 1, cache)
         two = screen(model, big, folder / "o2.csv", 2, cache)
+        parse = 0.5 * (before + parse_rate())
         mem_small = screen(model, small, folder / "os.csv", 1, cache)
         r1, r2 = one["rows"] / one["seconds"], two["rows"] / two["seconds"]
         print(f"plain RDKit parse:           {parse:10.0f} rows/s")
         print(f"screen, 1 worker:            {r1:10.0f} rows/s   ratio to parse {r1 / parse:.2f} (target >= 0.5)")
-        print(f"screen, 2 workers:           {r2:10.0f} rows/s   ratio to 1 worker {r2 / r1:.2f} (target >= 1.7)")
+        print(f"screen, 2 workers:           {r2:10.0f} rows/s   ratio to 1 worker {r2 / r1:.2f} (target >= 1.8)")
         print(f"peak memory {args.small:>8} rows:  {mem_small['rss_mb']:8.0f} MB")
         print(f"peak memory {args.n:>8} rows:  {one['rss_mb']:8.0f} MB   ratio {one['rss_mb'] / mem_small['rss_mb']:.2f} "
               f"(target <= 1.5)")

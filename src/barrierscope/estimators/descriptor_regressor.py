@@ -85,6 +85,14 @@ class DescriptorRegressor(RegressorProtocol):
         mean, std = predict_state(self.state_, Z)
         return (mean, std) if return_std else mean
 
+    def predict_detail(self, X) -> dict:
+        """One pass over X: ``mean`` and ``std`` (y's unit), the manifold ``excess`` and the
+        standardised descriptors ``Z`` (for the applicability domain)."""
+        check_fitted(self, "state_")
+        Z = self.transform(X)
+        mean, std, excess = predict_state(self.state_, Z, with_excess=True)
+        return {"mean": mean, "std": std, "excess": excess, "Z": Z}
+
     def manifold_excess(self, X) -> np.ndarray:
         """How far each row's descriptor combination lies outside the training members' (0
         inside): its predictions were clipped to the training box there (see :mod:`.ridge`)."""

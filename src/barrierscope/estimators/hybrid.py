@@ -83,9 +83,11 @@ class HybridRegressor(RegressorProtocol):
         self.correction_ = DescriptorRegressor(self.learner, self.random_state).fit(X, self.oof_residuals_)
         return self
 
-    def predict_parts(self, X, energy=None) -> dict:
+    def predict_parts(self, X, energy=None, two_stage_parts: dict | None = None) -> dict:
+        """As :meth:`TwoStageRegressor.predict_parts`, the barrier corrected; ``two_stage_parts``
+        (this model's two-stage parts for the same rows, when the caller has them) saves a pass."""
         check_fitted(self, "correction_")
-        parts = dict(self.two_stage_.predict_parts(X, energy))
+        parts = dict(two_stage_parts if two_stage_parts is not None else self.two_stage_.predict_parts(X, energy))
         corr, corr_std = self.correction_.predict(X, return_std=True)
         given = parts["energy_given"]
         parts["barrier"] = np.where(given, parts["barrier"], parts["barrier"] + corr)

@@ -99,11 +99,12 @@ def _pls_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
             "score_hi": scores.max(axis=0)}
 
 
-def _pls_predict(state: dict, X: np.ndarray):
-    T, _ = ridge.guard(state, X)
+def _pls_predict(state: dict, X: np.ndarray, with_excess: bool = False):
+    T, excess = ridge.guard(state, X)
     x = T @ np.asarray(state["vt"]) + np.asarray(state["x_mean"])   # the row back inside the training box
     mean = x @ np.asarray(state["coef"], dtype=float) + state["intercept"]
-    return mean, np.full(X.shape[0], state["cv_rmse"])
+    std = np.full(X.shape[0], state["cv_rmse"])
+    return (mean, std, excess) if with_excess else (mean, std)
 
 
 # -- Gaussian process ----------------------------------------------------------------------
@@ -230,11 +231,15 @@ def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, wa
     return _forest_fit(X, y, random_state, REFIT_FOREST_TREES if effort == "refit" else FOREST_TREES)
 
 
-def predict_state(state: dict, X: np.ndarray):
-    """(mean, predictive standard deviation) of a fitted learner state, in y's unit."""
+def predict_state(state: dict, X: np.ndarray, with_excess: bool = False):
+    """(mean, predictive standard deviation) of a fitted learner state, in y's unit; with
+    ``with_excess`` also each row's manifold excess (zero for GP and forest, whose predictions
+    stay within the training targets by themselves)."""
     X = np.asarray(X, dtype=float)
-    return {"ridge": ridge.predict, "pls": _pls_predict, "gp": _gp_predict,
-            "forest": _forest_predict}[state["kind"]](state, X)
+    if state["kind"] in ("ridge", "pls"):
+        return (ridge.predict if state["kind"] == "ridge" else _pls_predict)(state, X, with_excess)
+    mean, std = {"gp": _gp_predict, "forest": _forest_predict}[state["kind"]](state, X)
+    return (mean, std, np.zeros(X.shape[0])) if with_excess else (mean, std)
 
 
 def manifold_excess(state: dict, X: np.ndarray) -> np.ndarray:

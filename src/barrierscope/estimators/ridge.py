@@ -77,15 +77,18 @@ def guard(state: dict, X: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return clipped, np.maximum(excess, 0.0)
 
 
-def predict(state: dict, X: np.ndarray):
-    """(mean, predictive standard deviation) in y's unit."""
+def predict(state: dict, X: np.ndarray, with_excess: bool = False):
+    """(mean, predictive standard deviation) in y's unit; with ``with_excess`` also the
+    manifold excess of every row."""
     coef = np.asarray(state["coef"], dtype=float)
     if coef.size == 0:
-        return np.full(X.shape[0], state["intercept"]), np.full(X.shape[0], np.sqrt(state["s2"] * (1 + 1 / state["n"])))
-    T, _ = guard(state, X)
+        out = (np.full(X.shape[0], state["intercept"]), np.full(X.shape[0], np.sqrt(state["s2"] * (1 + 1 / state["n"]))))
+        return (*out, np.zeros(X.shape[0])) if with_excess else out
+    T, excess = guard(state, X)
     mean = T @ (np.asarray(state["vt"]) @ coef) + state["intercept"]
     h = 1.0 / state["n"] + np.sum((T * np.asarray(state["shrink"])) ** 2, axis=1)
-    return mean, np.sqrt(state["s2"] * (1.0 + h))
+    std = np.sqrt(state["s2"] * (1.0 + h))
+    return (mean, std, excess) if with_excess else (mean, std)
 
 
 class FoldDesign:

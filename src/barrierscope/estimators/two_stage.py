@@ -115,17 +115,20 @@ class TwoStageRegressor(RegressorProtocol):
         e_std = np.zeros(n)
         off, clipped = np.zeros(n, dtype=bool), np.zeros(n, dtype=bool)
         need = ~np.isfinite(given)
-        if need.any():
-            if self.energy_ is None:
-                raise ValueError("this model has no energy stage: every member needs a reaction energy")
-            idx = np.flatnonzero(need)
-            Xn = rows(X, idx)
-            raw, e_std[idx] = self.energy_.predict(Xn, return_std=True)
-            e[idx], clipped[idx] = clip_energy(raw, *self.curve_.energy_range_)
-            off[idx] = self.energy_.manifold_excess(Xn) > 0
+        Z = None
+        if self.energy_ is not None and X is not None:
+            # Every row is described once (the domain needs the descriptors of given-energy rows too).
+            detail = self.energy_.predict_detail(X)
+            Z = detail["Z"]
+            e[need], e_std[need] = detail["mean"][need], detail["std"][need]
+            e[need], clipped[need] = clip_energy(e[need], *self.curve_.energy_range_)
+            off[need] = detail["excess"][need] > 0
+        elif need.any():
+            raise ValueError("this model has no energy stage: every member needs a reaction energy")
         barrier, b_std = self.curve_.predict(e, return_std=True, energy_std=e_std)
         return {"energy": e, "energy_std": e_std, "energy_given": ~need, "barrier": barrier,
-                "barrier_std": b_std, "alpha": self.curve_.slope(e), "off_manifold": off, "energy_clipped": clipped}
+                "barrier_std": b_std, "alpha": self.curve_.slope(e), "off_manifold": off, "energy_clipped": clipped,
+                "Z": Z}
 
     def predict(self, X, energy=None, return_std: bool = False):
         """Barriers (kcal/mol); reaction energies given in ``energy`` skip the energy stage."""

@@ -22,6 +22,7 @@ def _worker_init() -> None:
 
 class SerialExecutor:
     workers = 1
+    local = True   # runs on this machine: may write files beside the output
 
     def map(self, fn: Callable, items: Iterable) -> Iterator:
         return map(fn, items)
@@ -32,6 +33,8 @@ class SerialExecutor:
 
 class ProcessExecutor:
     """A pool of local processes (``--workers N``)."""
+
+    local = True
 
     def __init__(self, workers: int):
         import multiprocessing as mp
@@ -52,7 +55,10 @@ class ProcessExecutor:
 
 
 class DaskExecutor:
-    """Tasks on a Dask cluster: ``local`` starts a loopback cluster, else an address to join."""
+    """Tasks on a Dask cluster: ``local`` starts a loopback cluster, else an address to join.
+    Its workers may run on other machines, so results come back rather than into files."""
+
+    local = False
 
     def __init__(self, scheduler: str, workers: int | None = None, retries: int = 2):
         try:

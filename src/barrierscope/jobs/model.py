@@ -68,7 +68,8 @@ class FamilyModel:
         route[unknown] = "two_stage"
         z = float(special.ndtri(0.5 + self.level / 2))
         if self.primary_route == "hybrid" and unknown.any():
-            hb = self.hybrid.predict_parts(X, given)
+            # The hybrid's two-stage part is fitted exactly as the model's own (same data, same settings).
+            hb = self.hybrid.predict_parts(X, given, two_stage_parts=ts)
             barrier[unknown], std[unknown], q[unknown] = hb["barrier"][unknown], hb["barrier_std"][unknown], z
             route[unknown] = "hybrid"
         elif self.primary_route == "direct" and unknown.any():
@@ -76,7 +77,7 @@ class FamilyModel:
             barrier[unknown], std[unknown], q[unknown] = db[unknown], ds[unknown], z
             route[unknown] = "direct"
         if self.has_structures:
-            dist = self.domain.distance(self.two_stage.energy_.transform(X))
+            dist = self.domain.distance(ts["Z"])
             out_desc = dist > self.domain.threshold_
         else:
             dist, out_desc = np.full(n, np.nan), np.zeros(n, dtype=bool)
@@ -85,6 +86,7 @@ class FamilyModel:
             "barrier": barrier, "barrier_std": std, "low": barrier - q * std, "high": barrier + q * std,
             "alpha": ts["alpha"], "route": route, "ad_distance": dist, "ad_descriptor_out": out_desc,
             "ad_energy_out": self.domain.energy_outside(ts["energy"]),
+            "off_manifold": ts["off_manifold"], "energy_clipped": ts["energy_clipped"],
             "relation_outside": self.curve.relation_.outside_validity(ts["energy"], self.curve.params_),
         }
 

@@ -37,7 +37,7 @@ class ScreenOptions:
 class ChunkPrediction:
     frame: pd.DataFrame             # one row per input row (kcal/mol, s⁻¹, s)
     X: pd.DataFrame | None          # the model's descriptors of the chunk (None: curve-only model)
-    keys: list[str] | None = None   # each row's structure key ("" where it failed; None: curve-only)
+    block: object = None            # the FeatureBlock (its ``keys``: each row's structure key)
 
 
 def _given_energies(chunk, model, opts, status, kind) -> np.ndarray:
@@ -63,7 +63,7 @@ def _descriptors(chunk, model, opts, engine, status, kind):
     for c in model.features:
         if c not in X.columns:  # a user's extra descriptor absent here is imputed like any missing value
             X[c] = np.nan
-    return X[model.features], block.notes.copy(), block.keys
+    return X[model.features], block.notes.copy(), block
 
 
 def _rates(frame: pd.DataFrame, idx, p: dict, opts: ScreenOptions) -> None:
@@ -92,9 +92,9 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
         bad = (chunk[READ_ERROR].astype(str) != "").to_numpy()
         status[bad], kind[bad] = chunk.loc[bad, READ_ERROR].to_numpy(), "unreadable"
     given = _given_energies(chunk, model, opts, status, kind)
-    X = keys = None
+    X = block = None
     if model.has_structures:
-        X, notes, keys = _descriptors(chunk, model, opts, engine, status, kind)
+        X, notes, block = _descriptors(chunk, model, opts, engine, status, kind)
     frame = pd.DataFrame({"row": chunk[ROW].to_numpy(), "id": row_ids(chunk, opts.id_column, source).to_numpy()})
     for c in [*model.spec.columns, *([opts.energy_column] if opts.energy_column else [])]:
         if c in chunk.columns and c not in frame.columns:
@@ -123,4 +123,4 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
             notes[j] = "; ".join(x for x in (notes[j], f"outside the {model.curve.relation_.label} relation's range "
                                                        f"of validity") if x)
     frame["notes"] = notes
-    return ChunkPrediction(frame, X, keys)
+    return ChunkPrediction(frame, X, block)

@@ -65,13 +65,31 @@ HALF_LIFE_BOUNDS = (1e-12, 4.35e17)
 
 
 def screen_chunk(args):
-    """One chunk: (model content, model key, chunk, source, options, output rounding) →
-    (output frame in the user's unit, the prediction frame in kcal/mol)."""
-    content, key, chunk, source, opts, rounded = args
+    """One chunk: (model content, model key, chunk, source, options, output format, top k,
+    part file or None) → (output frame in the user's unit, or its empty header when the worker
+    wrote the part file itself; the chunk's part of the summary in kcal/mol). Workers on this
+    machine write their own part files; Dask workers, which may be elsewhere, send frames."""
+    content, key, chunk, source, opts, fmt, top, part = args
     model = cached_model(content, key)
     engine = cached_engine(model, opts.cache_dir) if model.has_structures else None
     pred = predict_chunk(model, chunk, source, opts, engine).frame
-    return screen_frame(pred, model.units, rounded), pred
+    frame = screen_frame(pred, model.units, rounded=fmt != "parquet")
+    if part is not None:
+        partfiles.write_part(frame, part, fmt)
+        frame = frame.iloc[:0]
+    return frame, _chunk_summary(pred, top, model.spec.columns)
+
+
+def _chunk_summary(pred, top: int, structure_columns) -> dict:
+    ok = (pred["status"] == OK).to_numpy()
+    t = pred["half_life_s"].to_numpy(dtype=float)
+    d = pred["ad_distance"].to_numpy(dtype=float)
+    return {"rows": len(pred), "ok": int(ok.sum()), "errors": Counter(pred.loc[~ok, "error_kind"].astype(str)),
+            "out_of_domain": int((ok & ~pred["in_domain"].to_numpy(dtype=bool)).sum()),
+            "energy_given": int((pred["energy_source"] == "given").sum()),
+            "implausible": int(np.sum(ok & np.isfinite(t) & ((t < HALF_LIFE_BOUNDS[0]) | (t > HALF_LIFE_BOUNDS[1])))),
+            "distances": d[np.isfinite(d)][:2000], "barrier": np.where(ok, pred["barrier"].to_numpy(dtype=float), np.nan),
+            "low": pred["low"].to_numpy(dtype=float), "top": _merge_top([], pred, top, structure_columns) if top else []}
 
 
 def floor_of(curve) -> float | None:
@@ -94,7 +112,8 @@ def ranks(barrier: np.ndarray, low: np.ndarray, floor: float | None) -> tuple[np
 
 
 def _merge_top(current: list, pred, k: int, structure_columns) -> list:
-    """The k lowest barriers so far, in-domain rows first (kcal/mol), with their structures."""
+    """The k lowest barriers of ``current`` and ``pred``, in-domain rows first (kcal/mol), with
+    their structures."""
     import pandas as pd
 
     ok = pred[pred["status"] == OK]
@@ -104,28 +123,30 @@ def _merge_top(current: list, pred, k: int, structure_columns) -> list:
     return sorted(rows, key=lambda r: (not r["in_domain"], r["barrier"]))[:k]
 
 
-def _tasks(library, in_fmt, model, opts, content, key, chunk_size, rounded):
+def _tasks(library, in_fmt, model, opts, content, key, chunk_size, fmt, top, folder, local):
     needed = list(model.spec.columns) + ([model.spec.multiplicity] if model.spec.multiplicity else [])
     needed += [opts.energy_column] if opts.energy_column else []
-    for chunk in iter_table(library, chunk_size=chunk_size, fmt=in_fmt):
+    for k, chunk in enumerate(iter_table(library, chunk_size=chunk_size, fmt=in_fmt)):
         require_columns(chunk, needed + ([opts.id_column] if opts.id_column else []), library)
         keep = [c for c in chunk.columns if c in set(needed) | {ROW, opts.id_column, "id", READ_ERROR}]
-        yield (content, key, chunk[keep], str(library), opts, rounded)
+        yield (content, key, chunk[keep], str(library), opts, fmt, top, part_path(folder, k, fmt) if local else None)
 
 
-def _count(summary: ScreenSummary, pred) -> None:
-    ok = (pred["status"] == OK).to_numpy()
-    summary.rows += len(pred)
-    summary.ok += int(ok.sum())
-    summary.errors.update(pred.loc[~ok, "error_kind"].astype(str))
-    summary.out_of_domain += int((ok & ~pred["in_domain"].to_numpy(dtype=bool)).sum())
-    summary.energy_given += int((pred["energy_source"] == "given").sum())
-    t = pred["half_life_s"].to_numpy(dtype=float)
-    summary.implausible_half_lives += int(np.sum(ok & np.isfinite(t) & ((t < HALF_LIFE_BOUNDS[0]) |
-                                                                      (t > HALF_LIFE_BOUNDS[1]))))
+def part_path(folder: Path, k: int, fmt: str) -> Path:
+    return folder / f"part{k:06d}.{fmt}"
+
+
+def _count(summary: ScreenSummary, part: dict, top: int) -> None:
+    summary.rows += part["rows"]
+    summary.ok += part["ok"]
+    summary.errors.update(part["errors"])
+    summary.out_of_domain += part["out_of_domain"]
+    summary.energy_given += part["energy_given"]
+    summary.implausible_half_lives += part["implausible"]
     if len(summary.distances) < 20000:
-        d = pred["ad_distance"].to_numpy(dtype=float)
-        summary.distances += d[np.isfinite(d)][:2000].tolist()
+        summary.distances += part["distances"].tolist()
+    if top:
+        summary.top = sorted(summary.top + part["top"], key=lambda r: (not r["in_domain"], r["barrier"]))[:top]
 
 
 def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, chunk_size: int = 20000,
@@ -150,23 +171,26 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
                             output=str(output), floor=floor_of(model.curve))
     output.parent.mkdir(parents=True, exist_ok=True)
     folder = partfiles.parts_folder(output)
-    bar = _Progress(partfiles.count_rows(library, in_fmt), progress and sys.stderr.isatty())
+    total = partfiles.count_rows(library, in_fmt)
+    workers = max(1, getattr(executor, "workers", 1))
+    if workers > 1 and total:  # about eight chunks a worker, so no worker waits on a long last one
+        chunk_size = int(np.clip(-(-total // (8 * workers)), 1000, chunk_size))
+    bar = _Progress(total, progress and sys.stderr.isatty())
     barriers, lows, parts, header = [], [], [], None
     try:
-        tasks = _tasks(library, in_fmt, model, opts, content, key, chunk_size, out_fmt != "parquet")
-        window = 2 * max(1, getattr(executor, "workers", 1))
-        for k, (frame, pred) in enumerate(ordered_results(executor, screen_chunk, tasks, window)):
-            part = folder / f"part{k:06d}.{out_fmt}"
-            partfiles.write_part(frame, part, out_fmt)
+        local = getattr(executor, "local", True)
+        tasks = _tasks(library, in_fmt, model, opts, content, key, chunk_size, out_fmt, top, folder, local)
+        window = 2 * workers
+        for k, (frame, piece) in enumerate(ordered_results(executor, screen_chunk, tasks, window)):
+            part = part_path(folder, k, out_fmt)
+            if not local:
+                partfiles.write_part(frame, part, out_fmt)
             parts.append(part)
             header = frame.iloc[:0] if header is None else header
-            ok = (pred["status"] == OK).to_numpy()
-            barriers.append(np.where(ok, pred["barrier"].to_numpy(dtype=float), np.nan))
-            lows.append(pred["low"].to_numpy(dtype=float))
-            _count(summary, pred)
-            if top:
-                summary.top = _merge_top(summary.top, pred, top, model.spec.columns)
-            bar.update(len(pred))
+            barriers.append(piece["barrier"])
+            lows.append(piece["low"])
+            _count(summary, piece, top)
+            bar.update(piece["rows"])
         bar.close()
         b = np.concatenate(barriers) if barriers else np.zeros(0)
         lo = np.concatenate(lows) if lows else np.zeros(0)

@@ -67,7 +67,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
     res = predict_chunk(model, table, str(candidates_path), opts, engine)
     frame = res.frame
     ok = (frame["status"] == OK).to_numpy()
-    done = ok & _already_computed(model, frame, res.keys)
+    done = ok & _already_computed(model, frame, None if res.block is None else res.block.keys)
     pool = ok & ~done
     if not pool.any():
         raise ValueError(f"{candidates_path}: no candidate is left to suggest (none could be predicted, or every one "

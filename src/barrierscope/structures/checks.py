@@ -35,8 +35,17 @@ def quiet_rdkit() -> None:
         _quiet = True
 
 
-def parse_smiles(text: str, what: str = "SMILES") -> Chem.Mol:
-    """A sanitised molecule from ``text``, or :class:`StructureError` saying what is wrong."""
+#: Sanitisation without the stereo clean-ups (chiral tags on atoms that cannot be stereocentres,
+#: atropisomer flags): every check that can fail is kept. A third faster on library molecules,
+#: for callers that never write the molecule out (the core decomposition: substituent keys are
+#: canonicalised from their own fully sanitised text).
+_CHECK_ONLY = (Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_CLEANUPCHIRALITY
+               ^ Chem.SanitizeFlags.SANITIZE_CLEANUPATROPISOMERS)
+
+
+def parse_smiles(text: str, what: str = "SMILES", cleanup: bool = True) -> Chem.Mol:
+    """A sanitised molecule from ``text``, or :class:`StructureError` saying what is wrong;
+    ``cleanup=False`` skips the stereo clean-ups (see :data:`_CHECK_ONLY`)."""
     quiet_rdkit()
     if text is None:
         raise StructureError(f"empty {what}", "empty")
@@ -49,7 +58,7 @@ def parse_smiles(text: str, what: str = "SMILES") -> Chem.Mol:
     if mol is None:
         raise StructureError(f"cannot parse {what} {_short(s)}", "unparseable")
     try:
-        Chem.SanitizeMol(mol)
+        Chem.SanitizeMol(mol) if cleanup else Chem.SanitizeMol(mol, _CHECK_ONLY)
     except Exception as exc:  # RDKit raises several sanitisation exception types
         reason = str(exc).split("\n")[0].strip() or type(exc).__name__
         raise StructureError(f"{what} {_short(s)} fails sanitisation: {reason}", "unparseable") from None
@@ -60,12 +69,31 @@ def parse_smiles(text: str, what: str = "SMILES") -> Chem.Mol:
     return mol
 
 
+#: The element symbol opening a bracket atom ([13CH3+], [nH], [Se]): the only place a SMILES
+#: can name an element outside the organic subset.
+_BRACKET_ELEMENT = re.compile(r"\[\d*([A-Z][a-z]?|[a-z][a-z]?)")
+_SYMBOLS: set[str] = set()
+
+
+def _bracket_elements_ok(text: str) -> bool:
+    """True when every bracket atom of ``text`` is an element up to Rn (a fast pre-check; an
+    unknown symbol sends the caller to the atom-by-atom check)."""
+    if not _SYMBOLS:
+        table = Chem.GetPeriodicTable()
+        _SYMBOLS.update(table.GetElementSymbol(z) for z in range(1, MAX_ATOMIC_NUMBER + 1))
+    return all((sym.capitalize() if sym.islower() else sym) in _SYMBOLS for sym in _BRACKET_ELEMENT.findall(text))
+
+
 def check_elements_and_size(mol: Chem.Mol, max_heavy_atoms: int = DEFAULT_MAX_HEAVY_ATOMS,
-                            what: str = "molecule") -> None:
+                            what: str = "molecule", text: str | None = None) -> None:
+    """Refuse molecules above the size limit or with elements beyond Rn. With ``text`` (the
+    SMILES it came from) the elements are checked on the text's bracket atoms first."""
     heavy = mol.GetNumHeavyAtoms()
     if heavy > max_heavy_atoms:
         raise StructureError(f"{what} has {heavy} heavy atoms, above the limit of {max_heavy_atoms} "
                              f"(raise it with --max-atoms)", "too_large")
+    if text is not None and _bracket_elements_ok(text):
+        return
     for atom in mol.GetAtoms():
         z = atom.GetAtomicNum()
         if z > MAX_ATOMIC_NUMBER:

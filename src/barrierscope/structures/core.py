@@ -78,6 +78,9 @@ class CoreDecomposer:
             self._labels_at.setdefault(old_to_new[anchor_old[n]], []).append(p)
         self._raw_to_key: dict[str, str] = {}
         self._query_degree = [a.GetDegree() for a in self.query.GetAtoms()]
+        # One position per labelled core atom (no geminal pair): the common case, assigned fast.
+        self._anchor_per_position = ([q for p in range(len(self.numbers)) for q, ps in self._labels_at.items()
+                                      if p in ps] if all(len(v) == 1 for v in self._labels_at.values()) else None)
 
     def __reduce__(self):  # picklable for worker processes: rebuild from the SMILES
         return (CoreDecomposer, (self.core_smiles,))
@@ -85,9 +88,9 @@ class CoreDecomposer:
     # -- per molecule -------------------------------------------------------------------
     def decompose_smiles(self, text: str, max_heavy_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> tuple[str, ...]:
         """Canonical substituent keys of the molecule written as ``text``."""
-        mol = parse_smiles(text, "SMILES")
-        if mol.GetNumHeavyAtoms() > max_heavy_atoms or "[" in text:
-            check_elements_and_size(mol, max_heavy_atoms)  # only bracket atoms can be exotic
+        mol = parse_smiles(text, "SMILES", cleanup=False)
+        if "[" in text or mol.GetNumHeavyAtoms() > max_heavy_atoms:
+            check_elements_and_size(mol, max_heavy_atoms, text=text)  # only bracket atoms can be exotic
         return self.decompose(mol, text.strip())
 
     def decompose(self, mol: Chem.Mol, text: str | None = None) -> tuple[str, ...]:
@@ -141,6 +144,11 @@ class CoreDecomposer:
     def _assign(self, match, keys_at: dict[int, list[str]]) -> tuple[str, ...] | None:
         """Keys per position under one match, or None when the match leaves a substituent on
         an unlabelled core atom."""
+        if self._anchor_per_position is not None:
+            anchors = [match[q] for q in self._anchor_per_position]
+            if any(a not in anchors or len(v) > 1 for a, v in keys_at.items()):
+                return None
+            return tuple(keys_at[a][0] if a in keys_at else HYDROGEN_KEY for a in anchors)
         keys = [HYDROGEN_KEY] * len(self.numbers)
         used = 0
         for q, labels in self._labels_at.items():

@@ -35,12 +35,13 @@ def new_figure(figsize):
     """A matplotlib Figure outside pyplot: no window, whatever backend the user has chosen."""
     from matplotlib.figure import Figure
 
-    return Figure(figsize=figsize)
+    # The constrained layout fits labels in one pass (a tight bounding box renders twice).
+    return Figure(figsize=figsize, layout="constrained")
 
 
 def png(fig) -> bytes:
     buf = io.BytesIO()
-    fig.savefig(buf, format="png", bbox_inches="tight", dpi=110)
+    fig.savefig(buf, format="png", dpi=100)
     return buf.getvalue()
 
 
