@@ -35,3 +35,40 @@ def substituent_family(n: int = 30, seed: int = 0, path=None) -> pd.DataFrame:
     if path is not None:
         df.to_csv(path, index=False)
     return df
+
+
+def methylation_family(n: int = 24, seed: int = 0, path=None, offset: int = 0) -> pd.DataFrame:
+    """Invented two-product family, A + B → C + D with anions: substituted phenoxides methylated
+    by methyl iodide, ArO⁻ + CH3I → ArOCH3 + I⁻, each row written in its own species order.
+    Reaction energy a known linear map of the table's σp / σm (invented coefficients) plus
+    noise; barrier on TRUE_CURVE plus noise. ``offset`` skips that many candidates (a library
+    of new members)."""
+    from rdkit import Chem
+
+    from barrierscope.descriptors.hammett import ENTRIES
+    from barrierscope.relations import get_relation
+
+    rng = np.random.default_rng(seed)
+    cands = []
+    for e in ENTRIES:
+        if e.confidence != "high" or Chem.GetFormalCharge(Chem.MolFromSmiles(e.smiles)) != 0:
+            continue
+        group = e.smiles.replace("[*]", "")
+        for where, sigma, ring in (("p", e.sigma_p, "c1ccc({})cc1"), ("m", e.sigma_m, "c1cccc({})c1")):
+            phenoxide = Chem.MolToSmiles(Chem.MolFromSmiles("[O-]" + ring.format(group)))
+            ether = Chem.MolToSmiles(Chem.MolFromSmiles("CO" + ring.format(group)))
+            if all(c[1] != phenoxide for c in cands):  # hydrogen is the same para or meta
+                cands.append((f"{where}-{e.name}", phenoxide, ether, sigma))
+    order = rng.permutation(len(cands))[offset:offset + n]
+    rows = []
+    for k in order:
+        name, phenoxide, ether, sigma = cands[k]
+        de = -22.0 + 14.0 * sigma + rng.normal(0, 1.0)
+        dg = get_relation("asymptotic").barrier(np.array([de]), np.array(TRUE_CURVE))[0] + rng.normal(0, 0.8)
+        left = [phenoxide, "CI"] if rng.random() < 0.5 else ["CI", phenoxide]
+        right = [ether, "[I-]"] if rng.random() < 0.5 else ["[I-]", ether]
+        rows.append((name, f"{'.'.join(left)}>>{'.'.join(right)}", round(de, 3), round(dg, 3)))
+    df = pd.DataFrame(rows, columns=["id", "rxn", "dE", "dG"])
+    if path is not None:
+        df.to_csv(path, index=False)
+    return df

@@ -116,7 +116,7 @@ def test_conflicting_duplicates_are_an_error_listing_them(family, tmp_path):
     path = tmp_path / "conflict.csv"
     dup.to_csv(path, index=False)
     r = runner.invoke(app, fit_cmd(path, tmp_path))
-    assert r.exit_code == 2 and "conflicting values" in r.stderr and "(id 'copy')" in r.stderr
+    assert r.exit_code == 2 and "collide with another row of other energies" in r.stderr and "(id 'copy')" in r.stderr
 
 
 def test_unit_mixup_is_flagged(family, tmp_path):

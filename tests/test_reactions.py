@@ -48,13 +48,50 @@ def test_template_builds_the_same_reactions_as_written_out():
         ReactionTemplate("[*:1]C=C.C=CC=C>>[*:1]C1CCCC1").build(["*C"])
 
 
-def test_reactant_order_puts_the_constant_partner_first():
+def test_constant_partner_first_and_without_columns():
     df = pd.DataFrame({"rxn": ["C=CC=C.N#CC=C>>N#CC1CC=CCC1", "COC=C.C=CC=C>>COC1CC=CCC1",
                                "C=CC=C.CC=C>>CC1CC=CCC1"]})
     block = featurize(df, make_spec(reaction="rxn"), DescriptorEngine(("2d",)))
-    assert list(block.units["reactant1"]) == ["C=CC=C"] * 3
+    layout = block.extra["layout"]
+    assert layout.constant == (("reactant1", "C=CC=C"),)       # butadiene, on every row
     assert list(block.units["reactant2"]) == ["C=CC#N", "C=COC", "C=CC"]
-    assert "reactant1_mr" in block.X.columns and "product_mr" in block.X.columns
+    assert "reactant2_mr" in block.X.columns and "product1_mr" in block.X.columns
+    assert not any(c.startswith("reactant1_") for c in block.X.columns)
+
+
+# An invented methyl-transfer family, A + B → C + D with charged species (labelled invented):
+# phenoxides ArO⁻ + CH3I → ArOCH3 + I⁻, written in any order on a row.
+METHYLATION = ["CI.[O-]c1ccc(C)cc1>>COc1ccc(C)cc1.[I-]", "[O-]c1ccc(Cl)cc1.CI>>[I-].COc1ccc(Cl)cc1",
+               "CI.[O-]c1ccc(OC)cc1>>COc1ccc(OC)cc1.[I-]", "CI.[O-]c1ccc(C#N)cc1>>COc1ccc(C#N)cc1.[I-]"]
+
+
+def test_two_reactants_two_products_with_anions():
+    block = featurize(pd.DataFrame({"rxn": METHYLATION}), make_spec(reaction="rxn"), DescriptorEngine(("2d",)))
+    assert (block.status == "ok").all(), block.status
+    layout = block.extra["layout"]
+    assert (layout.n_reactants, layout.n_products) == (2, 2)
+    assert dict(layout.constant) == {"reactant1": "CI", "product1": "[I-]"}
+    assert list(block.units["reactant2"]) == ["Cc1ccc([O-])cc1", "[O-]c1ccc(Cl)cc1", "COc1ccc([O-])cc1",
+                                             "N#Cc1ccc([O-])cc1"]
+    assert {"reactant2_mr", "product2_mr"} <= set(block.X.columns)
+
+
+def test_a_row_laid_out_differently_says_what_differs():
+    from dataclasses import replace
+
+    spec = make_spec(reaction="rxn")
+    layout = featurize(pd.DataFrame({"rxn": METHYLATION}), spec, DescriptorEngine(("2d",))).extra["layout"]
+    fitted = replace(spec, layout=layout, positions=layout.varying)   # as a model reads a library
+    rows = ["CI.[O-]c1ccccc1>>COc1ccccc1.[I-]",       # fine
+            "CBr.[O-]c1ccccc1>>COc1ccccc1.[Br-]",     # another partner than every member had
+            "C=CC=C.C=C>>C1=CCCCC1"]                 # two reactants, one product
+    block = featurize(pd.DataFrame({"rxn": rows}), fitted, DescriptorEngine(("2d",)))
+    assert block.status[0] == "ok"
+    assert "no CI among the reactants here" in block.status[1] and "as reactant1" in block.status[1]
+    assert "1 product here, 2 in the family's other rows" in block.status[2]
+    # Inferred from a table, the layout keeps the most common shape and names the odd row.
+    mixed = featurize(pd.DataFrame({"rxn": METHYLATION + rows[2:]}), spec, DescriptorEngine(("2d",)))
+    assert "1 product here, 2 in the family's other rows" in mixed.status[4]
 
 
 pytest.importorskip("tblite", reason="GFN2-xTB reaction energies need tblite (extra 'xtb')")

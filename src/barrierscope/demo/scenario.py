@@ -34,7 +34,7 @@ BROKEN_ROWS = [
     ("bad-2", "", "empty cell"),
     ("bad-3", "c1ccccc1C(=O)O", "the core is not in the molecule"),
     ("bad-4", "CC(=O)c1ccc(C)c(C)c1C", "a substituent at an unlabelled core position"),
-    ("bad-5", "CC(=O)c1ccc(C(C)=O)cc1", "the core is found in two places (a second acetyl group)"),
+    ("bad-5", "CC(=O)c1ccc2OCOc2c1", "a ring joins the para and meta positions (a methylenedioxy group)"),
 ]
 
 
@@ -53,8 +53,11 @@ def _groups():
         if Chem.GetFormalCharge(Chem.MolFromSmiles(e.smiles)) != 0:
             continue
         try:
-            core.decompose_smiles(_molecule(e.smiles, "[*][H]"))
-            core.decompose_smiles(_molecule("[*][H]", e.smiles))
+            for smiles in (_molecule(e.smiles, "[*][H]"), _molecule("[*][H]", e.smiles)):
+                core.decompose_smiles(smiles)
+                places = {frozenset(m) for m in Chem.MolFromSmiles(smiles).GetSubstructMatches(core.query)}
+                if len(places) > 1:
+                    raise StructureError("a second copy of the core")
         except StructureError:
             continue
         keep.append(e)

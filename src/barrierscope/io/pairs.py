@@ -75,36 +75,55 @@ def numeric_columns(df: pd.DataFrame, columns: dict[str, str], ids: pd.Series, u
 
 
 def resolve_duplicates(keys: pd.Series, values: np.ndarray, ids: pd.Series, rows: np.ndarray,
-                       what: str) -> tuple[np.ndarray, list[str]]:
-    """Mask keeping the first of each group of duplicate ``keys``.
+                       by_structure: bool) -> tuple[np.ndarray, list[str], list[RowProblem]]:
+    """(mask keeping the first of each group of equal ``keys``, warnings, conflicts).
 
-    ``values`` is (n, k): duplicates with equal values are merged with a warning; any group
-    whose values differ raises :class:`InputError` listing the rows.
+    ``values`` is (n, k). Duplicates with equal values are merged with a warning. A group whose
+    values differ is a conflict: every row of it gets a problem that names the others, says
+    why they collide and how to tell them apart. ``by_structure``: the keys are structures
+    (else ids).
     """
     keep = np.ones(len(keys), dtype=bool)
     warnings: list[str] = []
-    conflicts: list[str] = []
+    conflicts: list[RowProblem] = []
     dup = keys.duplicated(keep=False).to_numpy()
     if not dup.any():
-        return keep, warnings
+        return keep, warnings, conflicts
     groups = pd.Series(np.flatnonzero(dup)).groupby(keys.to_numpy()[dup], sort=False)
     for key, positions in groups:
         pos = positions.to_numpy()
         block = values[pos]
-        same = np.all(np.abs(block - block[0]) <= DUPLICATE_TOLERANCE)
         where = ", ".join(describe_row(int(rows[p]), ids.iloc[p]) for p in pos)
-        if same:
+        if np.all(np.abs(block - block[0]) <= DUPLICATE_TOLERANCE):
             keep[pos[1:]] = False
-            warnings.append(f"{what} {key!r} appears {len(pos)} times with the same values ({where}); "
-                            f"kept once")
-        else:
-            shown = "; ".join(f"{describe_row(int(rows[p]), ids.iloc[p])}: "
-                              + ", ".join(f"{v:.6g}" for v in values[p]) for p in pos)
-            conflicts.append(f"{what} {key!r} has conflicting values — {shown}")
-    if conflicts:
-        raise InputError("the same member appears with different energies:\n  " + "\n  ".join(conflicts)
-                         + "\nresolve these rows (or give them distinct ids) and run again")
-    return keep, warnings
+            warnings.append(f"member {key!r} appears {len(pos)} times with the same values ({where}); kept once")
+            continue
+        distinct_ids = len({ids.iloc[p] for p in pos}) == len(pos)
+        for p in pos:
+            others = ", ".join(describe_row(int(rows[q]), ids.iloc[q]) for q in pos if q != p)
+            values_text = ", ".join(f"{v:.6g}" for v in values[p])
+            if by_structure and distinct_ids:
+                why = (f"same structure as read ({key}) as {others}, with other energies ({values_text} here): "
+                       f"stereochemistry or isotopes not written in the SMILES?")
+            elif by_structure:
+                why = f"the same member as {others}, with other energies ({values_text} here)"
+            else:
+                why = f"the same id as {others}, with other energies ({values_text} here)"
+            conflicts.append(RowProblem(int(rows[p]), ids.iloc[p], why))
+        keep[pos] = False
+    return keep, warnings, conflicts
+
+
+def collision_advice(by_structure: bool, conflicts: list[RowProblem]) -> str:
+    """What to do about colliding rows (once, after the list)."""
+    if not by_structure:
+        return "give each member its own id, or drop the wrong rows"
+    if any("stereochemistry" in c.message for c in conflicts):
+        return ("Rows with their own ids collide because their structures read the same: structures that differ only in "
+                "stereochemistry or isotopes collapse when the SMILES does not say so. Give SMILES that tell them apart "
+                "(stereo centres with @/@@, double bonds with / and \\, labelled isotopes), or leave these rows out "
+                "with --skip-bad-rows (each will be listed).")
+    return "keep the right values once, or leave these rows out with --skip-bad-rows (each will be listed)"
 
 
 def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str, unit: str = "kcal/mol",
@@ -134,16 +153,25 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
     warnings: list[str] = []
     if problems:
         warnings.append(f"{len(bad_rows)} row(s) left out because of bad values (listed under 'skipped')")
+    by_structure = keys is not None
     if keys is None and (id_col or "id" in df.columns):
         keys = ids
     if keys is not None:
         keys = pd.Series(np.asarray(keys, dtype=object)).reset_index(drop=True)
         sub = np.flatnonzero(ok)
         both = np.column_stack([values["energy"], values["barrier"]])
-        keep_sub, dup_warn = resolve_duplicates(keys.iloc[sub].reset_index(drop=True), both[sub],
-                                                ids.iloc[sub].reset_index(drop=True), rows[sub], "member")
+        keep_sub, dup_warn, conflicts = resolve_duplicates(keys.iloc[sub].reset_index(drop=True), both[sub],
+                                                           ids.iloc[sub].reset_index(drop=True), rows[sub],
+                                                           by_structure)
         warnings += dup_warn
         ok[sub[~keep_sub]] = False
+        if conflicts and not skip_bad_rows:
+            raise InputError(f"{source}: {len(conflicts)} rows collide with another row of other energies:\n  "
+                             f"{format_problems(conflicts)}\n{collision_advice(by_structure, conflicts)}")
+        if conflicts:
+            warnings.append(f"{len(conflicts)} row(s) left out because they collide with another row of different "
+                            f"energies (listed under 'skipped')")
+            problems = sorted(problems + conflicts, key=lambda p: p.row)
     hint = unit_mixup_hint(values["barrier"][ok], unit)
     if hint:
         warnings.append(hint)

@@ -46,11 +46,11 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts
         rows = df[ROW].to_numpy()
         problems += [RowProblem(int(rows[i]), ids.iloc[i], block.status[i]) for i in np.flatnonzero(~block.ok)]
         keys = pd.Series(["|".join(str(block.units[p][i]) for p in block.units) for i in range(len(df))])
-        freq = block.extra.get("reactant_frequency")
-        if freq is not None:  # the order of reactants must mean the same at screening time
+        layout = block.extra.get("layout")
+        if layout is not None:  # positions must mean the same at screening time
             from dataclasses import replace
 
-            spec = replace(spec, reactant_frequency=tuple(freq.most_common(500)))
+            spec = replace(spec, layout=layout, positions=layout.varying)
     if opts.extra_descriptors:
         extra, bad = _extra_matrix(df, opts.extra_descriptors, ids, source)
         problems += bad

@@ -7,9 +7,9 @@ that dummy; a position with nothing attached is hydrogen. This is a single subst
 search plus a walk over the substituent atoms, so it runs at a large fraction of plain
 SMILES-parsing speed (a generic R-group decomposition searches far more).
 
-Rules, each a per-row error when broken: the core must be found; it must be found in one
-place only; no unlabelled core atom may carry a substituent; no substituent may join two
-positions (a ring fused across them). When the core is symmetric (several matches over
+Rules, each a per-row error when broken: the core must be found; where it is found in several
+places, every place must read as the same substituents; no unlabelled core atom may carry a
+substituent; no substituent may join two positions (a ring fused across them). When the core is symmetric (several matches over
 the same atoms), the assignment whose tuple of canonical substituent keys, in position
 order, sorts first is taken, so the result does not depend on how the SMILES was written.
 """
@@ -97,17 +97,35 @@ class CoreDecomposer:
         """Canonical substituent keys, one per position, or :class:`StructureError`.
 
         With ``text`` (the SMILES ``mol`` was parsed from), substituents are read off the
-        text; see :func:`_text_fragments`. Otherwise they are cut out of the molecule graph.
+        text; see :class:`_TextFragments`. Otherwise they are cut out of the molecule graph.
+        A core found in several places is ambiguous only when two places read as different
+        substituents: equal halves of a symmetric molecule read the same either way, and a
+        place that cannot be read (a group on an unlabelled core atom there) is not a reading.
         """
         matches = mol.GetSubstructMatches(self.query, uniquify=False, useChirality=False, maxMatches=10000)
         if not matches:
             raise StructureError("the core is not found in this molecule", "core_unmatched")
+        places: dict[frozenset, list] = {}
+        for m in matches:
+            places.setdefault(frozenset(m), []).append(m)
+        if len(places) == 1:
+            return self._read_place(mol, text, matches)
+        readings, failure = set(), None
+        for group in places.values():
+            try:
+                readings.add(self._read_place(mol, text, group))
+            except StructureError as exc:  # a place that cannot be the core (e.g. a group on its ortho atom)
+                failure = failure or exc
+        if len(readings) > 1:
+            raise StructureError(f"the core matches {len(places)} places in this molecule that read as different "
+                                 f"substituents", "core_ambiguous")
+        if not readings:
+            raise failure
+        return readings.pop()
+
+    def _read_place(self, mol: Chem.Mol, text: str | None, matches) -> tuple[str, ...]:
+        """The keys read at one place of the core (its matches differ by the core's symmetry)."""
         first = matches[0]
-        if len(matches) > 1:
-            places = {frozenset(m) for m in matches}
-            if len(places) > 1:
-                raise StructureError(f"the core matches {len(places)} different places in this molecule",
-                                     "core_ambiguous")
         # Attachments (core atom, first substituent atom) do not depend on which match is used.
         core_atoms = None
         attachments: dict[int, list[int]] = {}

@@ -8,10 +8,8 @@
   filled, in every species, with the substituents of the substituent columns (in order):
   this is how a substituent series becomes a set of reactions.
 
-Reactants are put in a canonical order so that descriptor columns mean the same thing on
-every row: the reactant met most often (the family's constant partner) first, then by
-heavy-atom count (larger first), then by canonical SMILES. Positions are ``reactant1``,
-``reactant2``, ... and ``product`` (``product1``, ``product2``... for several products).
+One to three reactants and one to three products (A → B, A → B + C, A + B → C, A + B →
+C + D, ...). How a family's species are laid out in positions is :mod:`.layout`'s job.
 """
 
 from __future__ import annotations
@@ -19,10 +17,8 @@ from __future__ import annotations
 from collections import Counter
 from dataclasses import dataclass
 
-import numpy as np
-import pandas as pd
 from rdkit import Chem
-from rdkit.Chem import Descriptors, rdMolDescriptors
+from rdkit.Chem import Descriptors
 
 from .checks import (
     DEFAULT_MAX_HEAVY_ATOMS,
@@ -31,6 +27,10 @@ from .checks import (
     parse_smiles,
     quiet_rdkit,
 )
+
+
+#: Most species on one side of a reaction.
+MAX_SPECIES = 3
 
 
 @dataclass(frozen=True)
@@ -119,6 +119,10 @@ def parse_reaction(text: str, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS, multipli
     if not left or not right:
         raise StructureError("reaction SMILES needs reactants and products", "unparseable")
     lefts, rights = left.split("."), right.split(".")
+    for side, items in (("reactants", lefts), ("products", rights)):
+        if len(items) > MAX_SPECIES:
+            raise StructureError(f"{len(items)} {side}: barrierscope handles 1 to {MAX_SPECIES} on each side",
+                                 "layout")
     ml, mr = _multiplicities(multiplicity, len(lefts), len(rights))
     reactants = tuple(_canonical_species(t, "reactant", max_atoms, m) for t, m in zip(lefts, ml))
     products = tuple(_canonical_species(t, "product", max_atoms, m) for t, m in zip(rights, mr))
@@ -143,10 +147,8 @@ class ReactionTemplate:
         if not numbers:
             raise ValueError(f"template {template!r} has no attachment points ([*:1], [*:2], ...)")
         self.numbers = sorted(numbers)
-        n_r = len(self._left)
-        self.species_names = tuple([f"reactant{k + 1}" for k in range(n_r)] +
-                                   (["product"] if len(self._right) == 1 else
-                                    [f"product{k + 1}" for k in range(len(self._right))]))
+        if not (1 <= len(self._left) <= MAX_SPECIES and 1 <= len(self._right) <= MAX_SPECIES):
+            raise ValueError(f"template {template!r}: 1 to {MAX_SPECIES} reactants and products are supported")
 
     @staticmethod
     def _part(text: str):
@@ -185,65 +187,3 @@ class ReactionTemplate:
                             tuple(fill(p, "product") for p in self._right))
         check_balance(reaction)
         return reaction
-
-
-def reactant_order(reactions, frequency: Counter | None = None):
-    """Canonical reactant order: most frequent first, then larger, then by SMILES."""
-    if frequency is None:
-        frequency = Counter(s.smiles for r in reactions if r is not None for s in r.reactants)
-
-    def key(s: Species):
-        mol = Chem.MolFromSmiles(s.smiles)
-        return (-frequency.get(s.smiles, 0), -rdMolDescriptors.CalcNumHeavyAtoms(mol), s.smiles)
-
-    return [None if r is None else tuple(sorted(r.reactants, key=key)) for r in reactions], frequency
-
-
-def resolve_reactions(df: pd.DataFrame, spec, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS):
-    """Resolution for reaction or template mode (see :mod:`..descriptors.featurize`)."""
-    from .resolve import Resolution, reader_errors, substituent_columns
-
-    n = len(df)
-    errors, kinds = reader_errors(df)
-    reactions: list[Reaction | None] = [None] * n
-    if spec.mode == "reaction":
-        col = spec.columns[0]
-        texts = df[col].astype(str).to_numpy()
-        mult = df[spec.multiplicity].astype(str).to_numpy() if spec.multiplicity else [None] * n
-        for i in range(n):
-            if errors[i] is not None:
-                continue
-            try:
-                reactions[i] = parse_reaction(texts[i], max_atoms, mult[i])
-            except StructureError as exc:
-                errors[i], kinds[i] = f"{col}: {exc}", exc.kind
-        keys: dict[str, np.ndarray] = {}
-        given = Counter(dict(spec.reactant_frequency)) if spec.reactant_frequency else None
-        ordered, frequency = reactant_order(reactions, given)
-        for p in spec.positions:
-            keys[p] = np.full(n, None, dtype=object)
-        for i, r in enumerate(reactions):
-            if r is None:
-                continue
-            names = [f"reactant{k + 1}" for k in range(len(ordered[i]))]
-            names += ["product"] if len(r.products) == 1 else [f"product{k + 1}" for k in range(len(r.products))]
-            for name, s in zip(names, list(ordered[i]) + list(r.products)):
-                if name in keys:
-                    keys[name][i] = s.smiles
-                elif errors[i] is None:
-                    errors[i], kinds[i] = f"{col}: more species than the family's first rows ({name})", "species"
-        res = Resolution("molecule", spec.positions, keys, errors, kinds)
-        res.extra["reactant_frequency"] = frequency
-    else:
-        template = ReactionTemplate(spec.template)
-        subs = substituent_columns(df, spec.columns, errors, kinds)
-        for i in range(n):
-            if errors[i] is not None:
-                continue
-            try:
-                reactions[i] = template.build([subs[c][i] for c in spec.columns], max_atoms)
-            except StructureError as exc:
-                errors[i], kinds[i] = f"template: {exc}", exc.kind
-        res = Resolution("substituent", tuple(spec.columns), subs, errors, kinds)
-    res.extra["reactions"] = np.array(reactions, dtype=object)
-    return res

@@ -118,7 +118,7 @@ def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAU
         return Resolution("molecule", spec.positions, {spec.positions[0]: resolved[codes]}, errors, kinds)
 
     if spec.mode in ("reaction", "template"):
-        from .reaction import resolve_reactions
+        from .layout import resolve_reactions
 
         return resolve_reactions(df, spec, max_atoms)
 

@@ -14,7 +14,8 @@ class InputSpec:
     - ``substituents``: ``columns`` are the substituent columns (positions are their names);
     - ``core``: ``columns`` = (molecule column,), ``core`` the core SMILES; positions R1, R2...;
     - ``molecule``: ``columns`` = (molecule column,); the position is the column's name;
-    - ``reaction``: ``columns`` = (reaction SMILES column,); positions reactant1..., product;
+    - ``reaction``: ``columns`` = (reaction SMILES column,); positions: the varying ones of
+      reactant1..3, product1..3 (see :mod:`.layout`, found from the family when fitted);
     - ``template``: ``columns`` are substituent columns, ``template`` the reaction template;
     - ``none``: no structures (a curve-only model; energies come from the table).
     """
@@ -24,9 +25,9 @@ class InputSpec:
     core: str | None = None
     template: str | None = None
     positions: tuple[str, ...] = field(default=())
-    multiplicity: str | None = None   # reaction mode: column of spin multiplicities ("1.2>>2")
-    #: reaction mode: how often each reactant occurred in training (fixes the reactant order)
-    reactant_frequency: tuple[tuple[str, int], ...] = ()
+    multiplicity: str | None = None   # reaction mode: column of spin multiplicities ("1.2>>2.1")
+    #: reaction mode: the family's layout (species order, constant partners); None until fitted
+    layout: object = None
 
     def __post_init__(self):
         if self.mode not in MODES:
@@ -35,14 +36,18 @@ class InputSpec:
     def as_dict(self) -> dict:
         return {"mode": self.mode, "columns": list(self.columns), "core": self.core,
                 "template": self.template, "positions": list(self.positions), "multiplicity": self.multiplicity,
-                "reactant_frequency": [list(p) for p in self.reactant_frequency]}
+                "layout": None if self.layout is None else self.layout.as_dict()}
 
     @classmethod
     def from_dict(cls, d: dict) -> "InputSpec":
+        layout = None
+        if d.get("layout"):
+            from .layout import ReactionLayout
+
+            layout = ReactionLayout.from_dict(d["layout"])
         return cls(mode=d["mode"], columns=tuple(d.get("columns") or ()), core=d.get("core"),
                    template=d.get("template"), positions=tuple(d.get("positions") or ()),
-                   multiplicity=d.get("multiplicity"),
-                   reactant_frequency=tuple((str(a), int(b)) for a, b in d.get("reactant_frequency") or ()))
+                   multiplicity=d.get("multiplicity"), layout=layout)
 
 
 def make_spec(substituents: str | None = None, molecule: str | None = None, core: str | None = None,
@@ -79,6 +84,5 @@ def make_spec(substituents: str | None = None, molecule: str | None = None, core
     if multiplicity and not reaction:
         raise ValueError("--multiplicity goes with --reaction")
     if reaction:
-        return InputSpec("reaction", (reaction,), positions=("reactant1", "reactant2", "product"),
-                         multiplicity=multiplicity)
+        return InputSpec("reaction", (reaction,), multiplicity=multiplicity)
     return InputSpec("none")
