@@ -5,7 +5,9 @@ Data: reactions of the C–N–N dipole / C=C class of the open cycloaddition se
 K. Jorner, C. W. Coley, Sci. Data 2023, 10, 66), read from ../shared/datasets. The shared-
 partner family: every reaction of the class with the most common dipolarophile. Each
 measurement starts from an empty cache; the hit rate counts species found in the cache
-among all species looked up.
+among all species looked up. A two-product family as well (A + B → C + D with anions, ALPB
+water): substituted phenoxides methylated by methyl iodide, ArO⁻ + CH3I → ArOCH3 + I⁻, built
+from the table tier's groups (invented reactions, for timing only).
 
     python benchmarks/bench_xtb_reactions.py [--n 12] [--levels sp,opt]
 """
@@ -39,6 +41,21 @@ def timed(sub, level: str, workers: int):
     return dt / len(sub), engine, species
 
 
+def methylation(n: int):
+    """An invented two-product family for timing: rows of ArO⁻ + CH3I >> ArOCH3 + I⁻."""
+    import pandas as pd
+    from rdkit import Chem
+
+    from barrierscope.descriptors.hammett import ENTRIES
+
+    rows = []
+    for e in ENTRIES:
+        if Chem.GetFormalCharge(Chem.MolFromSmiles(e.smiles)) == 0 and len(rows) < n:
+            g = e.smiles.replace("[*]", "")
+            rows.append(f"[O-]c1ccc({g})cc1.CI>>COc1ccc({g})cc1.[I-]")
+    return pd.DataFrame({"rxn_smiles": rows})
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=12, help="reactions per measurement")
@@ -60,6 +77,12 @@ def main() -> None:
     distinct = engine.computed
     print(f"shared-partner family ({partner}, {len(fam)} reactions): {looked_up} species looked up, "
           f"{distinct} computed; cache hit rate {1 - distinct / looked_up:.0%}")
+    two = methylation(args.n)
+    for workers in (1, 2):
+        per, engine, looked_up = timed(two, "sp", workers)
+        print(f"two-product family (ArO- + CH3I >> ArOCH3 + I-, water, {len(two)} reactions), {workers} worker(s): "
+              f"{per:.2f} s/reaction; {looked_up} species looked up, {engine.computed} computed; cache hit rate "
+              f"{1 - engine.computed / looked_up:.0%}")
 
 
 if __name__ == "__main__":

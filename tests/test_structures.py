@@ -49,7 +49,8 @@ def test_core_decomposition(smiles, expected):
 @pytest.mark.parametrize("smiles,kind", [
     ("CC(=O)c1ccccc1", "core_unmatched"),
     ("OC(=O)c1ccc(C)c(C)c1", "core_unlabelled"),
-    ("OC(=O)c1ccc(-c2ccc(C(=O)O)cc2)cc1", "core_ambiguous"),
+    # Two places reading as different substituents (the amide linker reads differently from each end).
+    ("OC(=O)c1ccc(cc1)C(=O)Nc1ccc(C(=O)O)cc1", "core_ambiguous"),
 ])
 def test_core_row_errors(smiles, kind):
     with pytest.raises(StructureError) as info:
@@ -157,3 +158,10 @@ def test_text_reading_and_graph_cutting_agree(smiles):
     by_text = CoreDecomposer(core).decompose_smiles(smiles)
     by_graph = CoreDecomposer(core).decompose(Chem.MolFromSmiles(smiles))
     assert by_text == by_graph == ("*OC", "*C(C)C", "*SC#N")
+
+
+def test_a_core_found_twice_that_reads_the_same_is_accepted():
+    # 4,4'-biphenyldicarboxylic acid: the benzoic-acid core is found at either ring, and both
+    # read as R1 = 4-carboxyphenyl, so the molecule is not ambiguous.
+    d = CoreDecomposer("OC(=O)c1ccc([*:1])cc1")
+    assert d.decompose_smiles("OC(=O)c1ccc(-c2ccc(C(=O)O)cc2)cc1") == ("*c1ccc(C(=O)O)cc1",)
