@@ -2,6 +2,7 @@
 
 import json
 
+import numpy as np
 import pytest
 from families import substituent_family
 from typer.testing import CliRunner
@@ -88,3 +89,38 @@ def test_too_few_members(tmp_path):
     r = runner.invoke(app, ["fit", str(path), "--substituents", "R1", "--energy", "dE", "--barrier", "dG",
                             "-o", str(tmp_path / "m.json")])
     assert r.exit_code == 2 and "needs at least" in r.stderr
+
+
+def test_jackknife_plus_intervals_are_measured_stored_and_used(family_csv, tmp_path):
+    import pandas as pd
+
+    from barrierscope.io.modelfile import load_model
+
+    out = tmp_path / "jk.json"
+    common = ["--substituents", "R1,R2", "--energy", "dE", "--barrier", "dG", "--shuffles", "0", "--cache-dir",
+              str(tmp_path / "c")]
+    r = runner.invoke(app, ["fit", str(family_csv), *common, "-o", str(out), "--json",
+                            "--prediction-intervals", "jackknife+"])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.stdout)
+    assert s["intervals"]["method"] == "jackknife+" and s["intervals"]["folds"] == 26
+    for name, regime in s["validation"].items():
+        jk = regime["jackknife_plus"][s["primary_route"]]
+        assert 0.0 <= jk["coverage"] <= 1.0 and jk["n_test"] == regime["n_test"], name
+    model = load_model(out)
+    assert model.intervals is not None and len(model.intervals.models_) == 26
+    table = pd.read_csv(family_csv)
+    plain = tmp_path / "plain.json"
+    assert runner.invoke(app, ["fit", str(family_csv), *common, "-o", str(plain)]).exit_code == 0
+    got = {}
+    for name, path in (("jk", out), ("plain", plain)):
+        screened = tmp_path / f"{name}.csv"
+        r = runner.invoke(app, ["screen", str(path), str(family_csv), "-o", str(screened), "--cache-dir",
+                                str(tmp_path / "c")])
+        assert r.exit_code == 0, r.output
+        got[name] = pd.read_csv(screened).sort_values("row")
+    jk, plain_ = got["jk"], got["plain"]
+    assert len(jk) == len(table) and (jk["barrier_low90_kcal_mol"] < jk["barrier_high90_kcal_mol"]).all()
+    # Same point predictions, other intervals: the screen uses the stored jackknife+ ones.
+    assert np.allclose(jk["barrier_kcal_mol"], plain_["barrier_kcal_mol"])
+    assert not np.allclose(jk["barrier_low90_kcal_mol"], plain_["barrier_low90_kcal_mol"])

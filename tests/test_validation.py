@@ -152,3 +152,54 @@ def test_clusters_are_found_and_every_member_is_held_out_once():
     splits, why = cluster_splits(Z)
     assert why == "" and len(splits) == 4  # min(5, 24 // 6) clusters
     assert sorted(np.concatenate([s.test for s in splits]).tolist()) == list(range(24))
+
+
+def _curved_family(n, seed, barrier_follows_energy=True):
+    """Invented: energy linear in three of six descriptors over a span that reaches far
+    downhill onto the curve's floor (F = 4, M = −8, W = 3 kcal/mol); or, with
+    ``barrier_follows_energy=False``, a barrier set by a descriptor the energy ignores."""
+    rng = np.random.default_rng(seed)
+    X = pd.DataFrame(rng.normal(size=(n, 6)), columns=[f"d{j}" for j in range(6)])
+    energy = X.to_numpy()[:, :3] @ np.array([9.0, -6.0, 4.0]) - 10.0 + rng.normal(0, 0.8, n)
+    if barrier_follows_energy:
+        barrier = ASYM.barrier(energy, np.array([4.0, -8.0, 3.0])) + rng.normal(0, 0.6, n)
+    else:
+        barrier = 18.0 + 3.0 * X["d4"].to_numpy() + rng.normal(0, 0.5, n)
+    return X, energy, barrier
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_downhill_favours_the_physics_route_when_the_black_box_must_extrapolate(seed):
+    # Held out: the most exergonic quarter, on the floor. The black box extends the barrier's
+    # slope below the floor; the energy stage extends a linear energy, and the curve's floor
+    # holds the barrier there (the floor is the asymptotic relation's, METHOD §2).
+    from barrierscope.validation.run import ValidationOptions, validate
+
+    X, energy, barrier = _curved_family(32, seed)
+    record = validate(X, energy, barrier, [f"m{i}" for i in range(32)],
+                      ValidationOptions(n_shuffles=0, regimes=("loo", "downhill")))
+    down = record["validation"]["downhill"]
+    assert down["n_test"] == 8
+    assert down["winner"] in ("two_stage", "hybrid", "tie")
+    physics = {"two_stage", "hybrid"}
+    assert (down["winner"] in physics) or (set(down["tied"]) <= physics and "direct" in down["leader_beats"])
+    assert beats(down["pairs"]["two_stage_vs_direct"])
+    assert down["routes"]["two_stage"]["mae"] < 0.5 * down["routes"]["direct"]["mae"]
+
+
+def test_the_verdict_says_so_when_the_barrier_does_not_follow_the_reaction_energy():
+    from barrierscope.validation.run import ValidationOptions, validate
+    from barrierscope.views.verdict import verdict_text
+
+    X, energy, barrier = _curved_family(30, 0, barrier_follows_energy=False)
+    record = validate(X, energy, barrier, [f"m{i}" for i in range(30)],
+                      ValidationOptions(n_shuffles=0, regimes=("loo",)))
+    assert record["validation"]["loo"]["curve_beats_mean"] is False
+    text = verdict_text(record, "kcal/mol")
+    assert "does not follow the reaction energy" in text and "weak link" not in text
+    # ... and does not say it when the barrier does follow the energy.
+    X, energy, barrier = _curved_family(30, 0)
+    record = validate(X, energy, barrier, [f"m{i}" for i in range(30)],
+                      ValidationOptions(n_shuffles=0, regimes=("loo",)))
+    assert record["validation"]["loo"]["curve_beats_mean"] is True
+    assert "does not follow" not in verdict_text(record, "kcal/mol")

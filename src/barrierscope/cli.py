@@ -177,6 +177,9 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
         id_column: Optional[str] = ID,
         shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
         skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) unusable rows."),
+        prediction_intervals: str = typer.Option("model", "--prediction-intervals",
+                                                 help="model (each route's own) or jackknife+ (from the family's "
+                                                      "held-out errors; coverage measured in every regime)."),
         cache_dir: Optional[Path] = CACHE, max_atoms: int = MAX_ATOMS, workers: int = WORKERS,
         scheduler: Optional[str] = SCHEDULER, xtb_level: str = XTB_LEVEL, solvent: Optional[str] = SOLVENT,
         members: Optional[Path] = typer.Option(None, "--members", help="Write each member's leave-one-out "
@@ -191,7 +194,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
     extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
     opts = FitOptions(energy_column=energy, barrier_column=barrier, learner=learner, relation=relation, units=units,
                       energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
-                      n_shuffles=shuffles, max_atoms=max_atoms)
+                      n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals)
     model, record = fit_file(data, output, (substituents, molecule, core, reaction, template, multiplicity), tiers,
                              opts, cache_dir=cache_dir, workers=workers, scheduler=scheduler, xtb_level=xtb_level,
                              solvent=solvent, members=members, report=report, figures=figures)

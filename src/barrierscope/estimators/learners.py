@@ -100,11 +100,12 @@ def _pls_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0) -> dict:
 
 
 def _pls_predict(state: dict, X: np.ndarray, with_excess: bool = False):
-    T, excess = ridge.guard(state, X)
-    x = T @ np.asarray(state["vt"]) + np.asarray(state["x_mean"])   # the row back inside the training box
-    mean = x @ np.asarray(state["coef"], dtype=float) + state["intercept"]
+    T, raw = ridge.guard(state, X)
+    w = np.asarray(state["vt"]) @ np.asarray(state["coef"], dtype=float)
+    mean = T @ w + np.asarray(state["x_mean"]) @ np.asarray(state["coef"], dtype=float) + state["intercept"]
     std = np.full(X.shape[0], state["cv_rmse"])
-    return (mean, std, excess) if with_excess else (mean, std)
+    # How far the guard moved each prediction, in the stage's cross-validated RMSE.
+    return (mean, std, np.abs((raw - T) @ w) / max(state["cv_rmse"], 1e-300)) if with_excess else (mean, std)
 
 
 # -- Gaussian process ----------------------------------------------------------------------
@@ -243,10 +244,11 @@ def predict_state(state: dict, X: np.ndarray, with_excess: bool = False):
 
 
 def manifold_excess(state: dict, X: np.ndarray) -> np.ndarray:
-    """How far each row lies outside the training members' descriptor box (0 inside); linear
-    learners only (GP and forest predictions stay within the training targets by themselves)."""
+    """How far the guard moved each row's prediction, in the learner's residual standard
+    deviations (0: untouched); linear learners only (GP and forest predictions stay within
+    the training targets by themselves)."""
     if state["kind"] in ("ridge", "pls") and "vt" in state:
-        return ridge.guard(state, np.asarray(X, dtype=float))[1]
+        return predict_state(state, np.asarray(X, dtype=float), with_excess=True)[2]
     return np.zeros(np.shape(X)[0])
 
 

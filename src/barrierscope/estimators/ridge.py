@@ -14,8 +14,8 @@ absurd prediction (seen on a real family: a reaction energy of +66 kcal/mol agai
 So every new member's principal-component scores are clipped to the training members' range
 of each score, widened by :data:`GUARD_MARGIN` times that range on each side, before
 predicting: the model predicts only along combinations the training set spans (up to that
-margin). ``manifold_excess`` says how far outside the training range a member was (0 inside;
-flagged above 0). The margin was chosen by measurement (``benchmarks/bench_guard.py``): on
+margin). The excess is how far the clipping moved a member's prediction, in residual standard
+deviations; a member moved by more than :data:`GUARD_FLAG` of them is flagged. The margin was chosen by measurement (``benchmarks/bench_guard.py``): on
 invented families with a collinear pair broken by one member, a margin of 2 removes the
 blow-up (leave-one-out max error 18 → 3.3) while changing ordinary families by less than
 their noise; a margin of 0.25 also clipped honest extrapolation (MAE up to 30 % worse).
@@ -32,6 +32,9 @@ import numpy as np
 RIDGE_ALPHAS = np.logspace(-3, 4, 36)
 #: Each principal-component score may exceed the training members' range by this share of it.
 GUARD_MARGIN = 2.0
+#: A member whose prediction the guard moved by more than this many residual standard
+#: deviations is flagged (smaller moves are within the stage's own noise).
+GUARD_FLAG = 1.0
 
 
 def fit(X: np.ndarray, y: np.ndarray) -> dict:
@@ -67,28 +70,29 @@ def _choose_penalty(U, s, yc, n):
 
 
 def guard(state: dict, X: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(clipped principal-component scores, excess) of rows X (standardised); the excess is
-    how far the farthest score lay outside the training range, in units of that range."""
+    """(clipped principal-component scores, raw scores) of rows X (standardised)."""
     T = (X - np.asarray(state["x_mean"])) @ np.asarray(state["vt"]).T
     lo, hi = np.asarray(state["score_lo"]), np.asarray(state["score_hi"])
     width = np.maximum(hi - lo, 1e-12)
-    clipped = np.clip(T, lo - GUARD_MARGIN * width, hi + GUARD_MARGIN * width)
-    excess = np.max(np.maximum(lo - T, T - hi) / width, axis=1) if T.shape[1] else np.zeros(len(X))
-    return clipped, np.maximum(excess, 0.0)
+    return np.clip(T, lo - GUARD_MARGIN * width, hi + GUARD_MARGIN * width), T
 
 
 def predict(state: dict, X: np.ndarray, with_excess: bool = False):
     """(mean, predictive standard deviation) in y's unit; with ``with_excess`` also the
-    manifold excess of every row."""
+    guard's ``excess`` of every row: how far clipping moved its prediction, in units of the
+    residual standard deviation (0 when the guard did nothing)."""
     coef = np.asarray(state["coef"], dtype=float)
     if coef.size == 0:
         out = (np.full(X.shape[0], state["intercept"]), np.full(X.shape[0], np.sqrt(state["s2"] * (1 + 1 / state["n"]))))
         return (*out, np.zeros(X.shape[0])) if with_excess else out
-    T, excess = guard(state, X)
-    mean = T @ (np.asarray(state["vt"]) @ coef) + state["intercept"]
+    T, raw = guard(state, X)
+    w = np.asarray(state["vt"]) @ coef
+    mean = T @ w + state["intercept"]
     h = 1.0 / state["n"] + np.sum((T * np.asarray(state["shrink"])) ** 2, axis=1)
     std = np.sqrt(state["s2"] * (1.0 + h))
-    return (mean, std, excess) if with_excess else (mean, std)
+    if not with_excess:
+        return mean, std
+    return mean, std, np.abs((raw - T) @ w) / np.sqrt(max(state["s2"], 1e-300))
 
 
 class FoldDesign:
@@ -127,15 +131,14 @@ class FoldDesign:
         width = np.maximum(hi - lo, 1e-12)
         T = np.einsum("mtp,mkp->mtk", self.Zt - centre, Vt)
         self.T = np.clip(T, (lo - GUARD_MARGIN * width)[:, None, :], (hi + GUARD_MARGIN * width)[:, None, :])
-        self.excess = np.maximum(np.max(np.maximum(lo[:, None, :] - T, T - hi[:, None, :]) / width[:, None, :],
-                                        axis=2), 0.0)
+        self.moved = T - self.T                                        # what the guard took off each score
         self.d = self.s[:, None, :] ** 2 / (self.s[:, None, :] ** 2 + RIDGE_ALPHAS[None, :, None])  # (m, A, k)
         self.h = self.d @ (self.Ut ** 2) + 1.0 / self.r                                            # (m, A, r)
 
     def solve(self, yt: np.ndarray) -> dict:
         """Fit every fold to its training targets ``yt`` (m, r): ``pred`` and ``sd`` of the test
         members (m, t), ``loo`` the leave-one-out residuals inside each fold (m, r), and the
-        manifold ``excess`` (m, t)."""
+        guard's ``excess`` (m, t; see :func:`predict`)."""
         yt = np.asarray(yt, dtype=float)
         yc = yt - yt.mean(axis=1, keepdims=True)
         Uy = np.einsum("mrk,mr->mk", self.U, yc)
@@ -147,8 +150,9 @@ class FoldDesign:
         s2 = mses[idx, best] / (1.0 + np.mean(self.h[idx, best], axis=1))
         pred = np.einsum("mtk,mk->mt", self.T, shrink * Uy) + yt.mean(axis=1)[:, None]
         lev = 1.0 / self.r + np.sum((self.T * shrink[:, None, :]) ** 2, axis=2)
+        excess = np.abs(np.einsum("mtk,mk->mt", self.moved, shrink * Uy)) / np.sqrt(np.maximum(s2, 1e-300))[:, None]
         return {"pred": pred, "sd": np.sqrt(s2[:, None] * (1.0 + lev)), "loo": loo_all[idx, best],
-                "excess": self.excess}
+                "excess": excess}
 
 
 def fit_folds(X: np.ndarray, y: np.ndarray, train: np.ndarray, test: np.ndarray) -> dict:

@@ -17,6 +17,7 @@ import numpy as np
 from .base import RegressorProtocol, check_fitted
 from ..curves.regressor import CurveRegressor
 from .descriptor_regressor import DescriptorRegressor
+from .ridge import GUARD_FLAG
 
 
 #: A predicted reaction energy is clipped to the training span widened by this share of the span
@@ -105,8 +106,9 @@ class TwoStageRegressor(RegressorProtocol):
 
     def predict_parts(self, X, energy=None) -> dict:
         """Per member (kcal/mol): energy (given or predicted), its σ, whether it was given,
-        barrier, its σ, the local Leffler α, and the guard's flags: ``off_manifold`` (an
-        unusual descriptor combination, clipped to the training box) and ``energy_clipped``
+        barrier, its σ, the local Leffler α, and the guard's flags: ``off_manifold`` (a
+        descriptor combination unlike the members': the guard moved the predicted energy by
+        more than the stage's residual standard deviation) and ``energy_clipped``
         (a predicted energy beyond the training span plus :data:`ENERGY_MARGIN`)."""
         check_fitted(self, "curve_")
         n = n_rows(X, energy)
@@ -122,7 +124,7 @@ class TwoStageRegressor(RegressorProtocol):
             Z = detail["Z"]
             e[need], e_std[need] = detail["mean"][need], detail["std"][need]
             e[need], clipped[need] = clip_energy(e[need], *self.curve_.energy_range_)
-            off[need] = detail["excess"][need] > 0
+            off[need] = detail["excess"][need] > GUARD_FLAG
         elif need.any():
             raise ValueError("this model has no energy stage: every member needs a reaction energy")
         barrier, b_std = self.curve_.predict(e, return_std=True, energy_std=e_std)

@@ -42,6 +42,10 @@ class FitOptions:
     random_state: int = 0
     max_atoms: int = 200
     regimes: tuple[str, ...] = REGIMES
+    #: "model" (each route's own intervals) or "jackknife+" (the primary route's, from refits)
+    prediction_intervals: str = "model"
+
+INTERVAL_METHODS = ("model", "jackknife+")
 
 
 def _check_sizes(n: int, has_x: bool, opts: FitOptions) -> None:
@@ -118,6 +122,9 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
                                         opts.regimes))
     primary = primary_route(record["validation"]["loo"], record["routes"]) if has_x else "two_stage"
     notes += record.pop("notes", [])
+    jackknife, record["intervals"] = prediction_intervals(X if has_x else None, energy, barrier, primary, record,
+                                                          opts)
+    notes += record["intervals"].pop("notes")
     record.update({"n": pairs.n, "units": unit, "energy_kind": kind, "learner": opts.learner,
                    "relation": curve.relation_.name, "requested_relation": opts.relation,
                    "features": list(X.columns) if has_x else [], "energy_stage_importance": importance,
@@ -136,8 +143,39 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
                   "barrier_range": [float(barrier.min()), float(barrier.max())]},
         validation={k: v for k, v in record.items() if k != "curve"},
         primary_route=primary, level=opts.level, warnings=warnings,
-        descriptor_versions=_versions(engine) if has_x else {}, xtb=_xtb_settings(engine) if has_x else {})
+        descriptor_versions=_versions(engine) if has_x else {}, xtb=_xtb_settings(engine) if has_x else {},
+        intervals=jackknife)
     return model, record
+
+
+def prediction_intervals(X, energy, barrier, primary: str, record: dict, opts: FitOptions):
+    """(JackknifePlus or None, the record's ``intervals`` entry): which intervals the model
+    uses, their measured coverage per regime, and a note when the model's own intervals miss
+    their nominal level in leave-one-out."""
+    from ..estimators.jackknife import JackknifePlus
+    from ..validation.conformal import coverage_by_regime, off_nominal
+
+    if opts.prediction_intervals not in INTERVAL_METHODS:
+        raise ValueError(f"--prediction-intervals {opts.prediction_intervals!r}: choose one of "
+                         f"{', '.join(INTERVAL_METHODS)}")
+    route = primary if X is not None else "curve_on_true_energy"
+    loo = record["validation"]["loo"]
+    cover = (loo["routes"].get(route) or {}).get("pi90_coverage")
+    entry = {"method": "model", "route": route, "level": opts.level, "notes": []}
+    if cover is not None and off_nominal(cover, loo["n_test"], opts.level) and opts.prediction_intervals == "model":
+        entry["notes"].append(f"the {route.replace('_', '-')} intervals hold for {cover:.0%} of the members in "
+                              f"leave-one-out against {opts.level:.0%} nominal: --prediction-intervals jackknife+ "
+                              f"builds them from the family's held-out errors instead")
+    if opts.prediction_intervals == "model":
+        return None, entry
+    vopts = ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, 0, opts.regimes)
+    routes = (route, "curve_on_true_energy") if X is not None else (route,)
+    coverage = coverage_by_regime(X, energy, barrier, routes, vopts)
+    for name, by_route in coverage.items():
+        record["validation"][name]["jackknife_plus"] = by_route
+    fitted = JackknifePlus(primary, opts.learner, opts.relation, opts.level, opts.random_state).fit(X, barrier, energy)
+    entry.update(method=fitted.method, folds=len(fitted.folds_))
+    return fitted, entry
 
 
 def _xtb_settings(engine) -> dict:

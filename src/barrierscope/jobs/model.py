@@ -16,6 +16,7 @@ from scipy import special
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import HybridRegressor
+from ..estimators.jackknife import JackknifePlus
 from ..estimators.two_stage import TwoStageRegressor, known_energies, n_rows
 from ..structures.spec import InputSpec
 
@@ -43,6 +44,8 @@ class FamilyModel:
     descriptor_versions: dict = field(default_factory=dict)
     xtb: dict = field(default_factory=dict)
     warnings: list[str] = field(default_factory=list)
+    #: jackknife+ (CV+) intervals of the primary route, when fitted with them; else the model's own
+    intervals: JackknifePlus | None = None
 
     @property
     def curve(self):
@@ -76,6 +79,11 @@ class FamilyModel:
             db, ds = self.direct.predict(X, return_std=True)
             barrier[unknown], std[unknown], q[unknown] = db[unknown], ds[unknown], z
             route[unknown] = "direct"
+        low, high = barrier - q * std, barrier + q * std
+        if self.intervals is not None:
+            j_low, j_high = self.intervals.interval(X, given)
+            use = ~np.isnan(j_low)      # a direct model's given-energy rows keep the curve's own
+            low[use], high[use] = j_low[use], j_high[use]
         if self.has_structures:
             dist = self.domain.distance(ts["Z"])
             out_desc = dist > self.domain.threshold_
@@ -83,7 +91,7 @@ class FamilyModel:
             dist, out_desc = np.full(n, np.nan), np.zeros(n, dtype=bool)
         return {
             "energy": ts["energy"], "energy_std": ts["energy_std"], "energy_given": ts["energy_given"],
-            "barrier": barrier, "barrier_std": std, "low": barrier - q * std, "high": barrier + q * std,
+            "barrier": barrier, "barrier_std": std, "low": low, "high": high,
             "alpha": ts["alpha"], "route": route, "ad_distance": dist, "ad_descriptor_out": out_desc,
             "ad_energy_out": self.domain.energy_outside(ts["energy"]),
             "off_manifold": ts["off_manifold"], "energy_clipped": ts["energy_clipped"],
@@ -103,6 +111,7 @@ class FamilyModel:
             "direct": None if self.direct is None else self.direct.as_dict(),
             "domain": self.domain.as_dict(), "training": self.training, "validation": self.validation,
             "warnings": list(self.warnings),
+            "prediction_intervals": None if self.intervals is None else self.intervals.as_dict(),
         }
 
     @classmethod
@@ -117,4 +126,6 @@ class FamilyModel:
                    domain=ApplicabilityDomain.from_dict(d["domain"]), training=d["training"],
                    validation=d["validation"], primary_route=d["primary_route"], level=float(d.get("level", 0.9)),
                    descriptor_versions=d.get("descriptor_versions", {}), xtb=d.get("xtb", {}),
-                   warnings=list(d.get("warnings", [])))
+                   warnings=list(d.get("warnings", [])),
+                   intervals=JackknifePlus.from_dict(d["prediction_intervals"]) if d.get("prediction_intervals")
+                   else None)

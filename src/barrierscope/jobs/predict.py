@@ -20,6 +20,10 @@ from ..kinetics import eyring_rate, half_life
 from ..units import factor_to_kcal
 
 OK = "ok"
+#: What the energy stage's guard did to a row (see estimators.ridge and estimators.two_stage).
+GUARD_NOTES = {"off_manifold": "descriptor combination unlike the members': pulled back to their range before "
+                               "predicting the reaction energy",
+               "energy_clipped": "predicted reaction energy beyond the members' span + 25 %: clipped there"}
 
 
 @dataclass(frozen=True)
@@ -103,7 +107,8 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
     for c in NUMERIC:
         frame[c] = np.nan
     frame["energy_source"], frame["route"] = "", ""
-    for c in ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside"):
+    for c in ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside", "off_manifold",
+              "energy_clipped"):
         frame[c] = False
     idx = np.flatnonzero(status == OK)
     if idx.size:
@@ -112,15 +117,18 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
                        ("high", "high"), ("barrier_sd", "barrier_std"), ("alpha", "alpha"),
                        ("ad_distance", "ad_distance"), ("ad_descriptor_out", "ad_descriptor_out"),
                        ("ad_energy_out", "ad_energy_out"), ("route", "route"),
-                       ("relation_outside", "relation_outside")):
+                       ("relation_outside", "relation_outside"), ("off_manifold", "off_manifold"),
+                       ("energy_clipped", "energy_clipped")):
             frame.loc[idx, c] = p[key]
         frame.loc[idx, "energy_source"] = np.where(p["energy_given"], "given", "predicted")
         frame.loc[idx, "in_domain"] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
         if model.energy_kind == "free-energy":
             _rates(frame, idx, p, opts)
-        outside = np.asarray(p["relation_outside"], dtype=bool)
-        for j in idx[outside]:
-            notes[j] = "; ".join(x for x in (notes[j], f"outside the {model.curve.relation_.label} relation's range "
-                                                       f"of validity") if x)
+        for flag, text in ((p["relation_outside"], f"outside the {model.curve.relation_.label} relation's range of "
+                                                    f"validity"),
+                           (p["off_manifold"], GUARD_NOTES["off_manifold"]),
+                           (p["energy_clipped"], GUARD_NOTES["energy_clipped"])):
+            for j in idx[np.asarray(flag, dtype=bool)]:
+                notes[j] = "; ".join(x for x in (notes[j], text) if x)
     frame["notes"] = notes
     return ChunkPrediction(frame, X, block)

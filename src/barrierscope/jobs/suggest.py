@@ -87,6 +87,9 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
             "in_domain": bool(cands.in_domain[p["index"]]), "ad_distance": float(cands.ad_distance[p["index"]]),
             "barrier": float(sub.loc[p["index"], "barrier"]), "low": float(sub.loc[p["index"], "low"]),
             "high": float(sub.loc[p["index"], "high"]), "facts": _facts(model, cands, p["index"], goal),
+            "energy_outside_span": bool(sub.loc[p["index"], "ad_energy_out"]),
+            "energy_clipped": bool(sub.loc[p["index"], "energy_clipped"]),
+            "unusual_descriptors": bool(sub.loc[p["index"], "off_manifold"]),
             "structure": {c: str(sub.loc[p["index"], c]) for c in model.spec.columns if c in sub.columns}}
            for p in picks]
     return {"goal": goal, "k": k, "units": model.units, "candidates": int(len(frame)), "considered": int(pool.sum()),

@@ -29,6 +29,7 @@ from ..curves.intervals import t_quantile
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import out_of_fold_energy
+from ..estimators.ridge import GUARD_FLAG
 from ..estimators.two_stage import clip_energy, rows
 from ..relations import RELATIONS, get_relation
 from .splits import Split
@@ -87,10 +88,13 @@ class OutOfFold:
     #: fits whose hyper-parameter search ended at a bound (Gaussian process), out of ``fits``
     optimizer_capped: int = 0
     fits: int = 0
+    #: route → one array per split, aligned with that split's ``test`` (test sets may overlap)
+    by_split: dict[str, list] = field(default_factory=dict)
 
     def _put(self, route, idx, mean, std, low, high):
         for store, v in ((self.pred, mean), (self.std, std), (self.low, low), (self.high, high)):
             store.setdefault(route, np.full(self.n, np.nan))[idx] = v
+        self.by_split.setdefault(route, []).append(np.broadcast_to(np.asarray(mean, dtype=float), np.shape(idx)))
 
 
 def _weights(splits: list[Split], n: int) -> np.ndarray:
@@ -270,13 +274,15 @@ def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, leve
                              warm=warm_e)
     direct_fits = (_fold_fits(X, y, splits, learner, random_state, designs=designs, warm=warm_d)
                    if "direct" in routes else None)
+    e_split = []   # each split's own energies: test sets may overlap (nested jackknife+)
     for k, s in enumerate(splits):
         f = energy_fits[k]
         span = (x[s.train].min(), x[s.train].max())
         e_hat, clipped = clip_energy(f["pred"], *span)
+        e_split.append(e_hat)
         out.energy[s.test], out.energy_std[s.test] = e_hat, f["sd"]
         out.energy_pred_outside[s.test] = (f["pred"] < span[0]) | (f["pred"] > span[1])
-        out.energy_clipped[s.test], out.off_manifold[s.test] = clipped, f["excess"] > 0
+        out.energy_clipped[s.test], out.off_manifold[s.test] = clipped, f["excess"] > GUARD_FLAG
         if domain:
             ad = ApplicabilityDomain().fit(f["Z"], x[s.train])
             out.ad_distance[s.test] = ad.distance(f["Zt"])
@@ -297,6 +303,6 @@ def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, leve
     out.fits = len(energy_fits) + len(direct_fits or []) + len(corrections)
     if "hybrid" in routes:
         for k, s in enumerate(splits):
-            base = curves.predict(k, out.energy[s.test], out.energy_std[s.test], level)[0]
+            base = curves.predict(k, e_split[k], energy_fits[k]["sd"], level)[0]
             h, cs = base + corrections[k]["pred"], corrections[k]["sd"]
             out._put("hybrid", s.test, h, cs, h - z * cs, h + z * cs)

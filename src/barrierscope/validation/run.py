@@ -14,7 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..estimators.preprocess import Preprocessor
-from .metrics import metrics
+from .metrics import beats, metrics, paired_comparison
 from .routes import ROUTES, out_of_fold
 from .splits import REGIMES, regimes
 from .verdict import decide
@@ -56,7 +56,21 @@ def _regime_record(oof, energy, barrier, ids, random_state) -> dict:
               "misses": decision["misses"],
               "pairs": decision["pairs"], "skipped": ""}
     record["energy_stage"] = None if oof.energy is None else metrics(energy, oof.energy)
+    record["curve_beats_mean"] = _curve_beats_mean(oof, barrier, random_state)
     return record
+
+
+def _curve_beats_mean(oof, barrier, random_state) -> bool | None:
+    """Does the barrier follow the reaction energy at all: does the curve fed the held-out
+    members' own reaction energies clearly beat the family mean on them?"""
+    if "curve_on_true_energy" not in oof.pred or "family_mean" not in oof.pred:
+        return None
+    t = oof.tested
+    if t.sum() < 3:
+        return None
+    c = paired_comparison(oof.pred["curve_on_true_energy"][t] - barrier[t], oof.pred["family_mean"][t] - barrier[t],
+                          random_state=random_state)
+    return beats(c)
 
 
 def _members(oof, energy, barrier, ids) -> dict:
@@ -70,7 +84,8 @@ def _members(oof, energy, barrier, ids) -> dict:
            "energy_true_outside": oof.energy_true_outside.tolist()}
     if oof.ad_out is not None:
         out.update({"ad_distance": oof.ad_distance.tolist(), "ad_out": oof.ad_out.tolist(),
-                    "energy_pred_outside": oof.energy_pred_outside.tolist()})
+                    "energy_pred_outside": oof.energy_pred_outside.tolist(),
+                    "energy_clipped": oof.energy_clipped.tolist(), "unusual_descriptors": oof.off_manifold.tolist()})
     # A member the curve misses badly even from its own reaction energy points at the data
     # (a transition state that is not the right one, or a mis-assigned energy), not the model.
     resid = oof.pred["curve_on_true_energy"] - barrier

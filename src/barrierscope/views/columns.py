@@ -37,6 +37,8 @@ SCHEMA = (
     ("ad_distance", "ad_distance", "plain3"),
     ("ad_descriptor_out", "ad_descriptor_out", "text"),
     ("ad_energy_out", "ad_energy_out", "text"),
+    ("energy_clipped", "energy_clipped", "text"),
+    ("unusual_descriptors", "off_manifold", "text"),
     ("in_domain", "in_domain", "text"),
     ("route", "route", "text"),
     ("notes", "notes", "text"),
@@ -44,13 +46,10 @@ SCHEMA = (
 
 
 def _sig(values: np.ndarray, digits: int = 4) -> np.ndarray:
+    """Rounded to ``digits`` significant figures through the decimal text, so that the CSV shows
+    704100000 rather than 704100000.0000001."""
     v = np.asarray(values, dtype=float)
-    out = v.copy()
-    ok = np.isfinite(v) & (v != 0)
-    mag = np.floor(np.log10(np.abs(v[ok])))
-    scale = 10.0 ** (digits - 1 - mag)
-    out[ok] = np.round(v[ok] * scale) / scale
-    return out
+    return np.array([float(f"{x:.{digits}g}") if np.isfinite(x) else x for x in v.tolist()], dtype=float)
 
 
 def _durations(seconds) -> np.ndarray:

@@ -10,6 +10,7 @@ from .verdict import verdict_text
 
 ROUTE_LABELS = {"two_stage": "two-stage barrier", "hybrid": "hybrid barrier", "direct": "direct barrier (black box)",
                 "curve_on_true_energy": "curve on the true dE", "family_mean": "family mean"}
+SHORT = {"two_stage": "two-stage", "hybrid": "hybrid", "direct": "black box", "curve_on_true_energy": "curve on true dE"}
 REGIME_LABELS = {"loo": "leave-one-out", "downhill": "downhill", "uphill": "uphill", "clusters": "clusters"}
 
 
@@ -33,10 +34,43 @@ def regime_table(record: dict) -> list[str]:
             cells.append(f"{_cell(m, 'mae'):>7}{_cell(m, 'rmse'):>7}{_cell(m, 'pi90_coverage', '.0%'):>6}")
         if any(c.strip("— ") for c in cells):
             lines.append(f"{label:<28}" + "".join(cells))
+    lines += _jackknife_rows(regimes)
     lines.append(f"{'winner':<28}" + "".join(f"{str(v.get('winner') or 'not run'):>20}" for v in regimes.values()))
     skipped = [f"{REGIME_LABELS[k]}: {v['skipped']}" for k, v in regimes.items() if v.get("skipped")]
     if skipped:
         lines.append("not run — " + "; ".join(skipped))
+    return lines
+
+
+def _jackknife_rows(regimes: dict) -> list[str]:
+    """Coverage of jackknife+ intervals per regime (median width in the RMSE column's place)."""
+    routes = list(dict.fromkeys(r for v in regimes.values() for r in v.get("jackknife_plus", {})))
+    lines = []
+    for r in routes:
+        cells = []
+        for v in regimes.values():
+            m = v.get("jackknife_plus", {}).get(r)
+            cells.append(f"{'':>7}{_cell(m, 'width'):>7}{_cell(m, 'coverage', '.0%'):>6}")
+        lines.append(f"{'jackknife+ ' + SHORT[r]:<28}" + "".join(cells))
+    return lines
+
+
+MEMBER_FLAGS = (("energy_pred_outside", "leave-one-out reaction energy outside the other members' span"),
+                ("energy_clipped", "leave-one-out reaction energy clipped by the guard (span + 25 %)"),
+                ("unusual_descriptors", "descriptor combination unlike the others' (the guard moved the energy)"),
+                ("ad_out", "descriptors outside the others' applicability domain"),
+                ("unusual", "unusual residual from its own reaction energy (check the TS and the energy)"))
+
+
+def member_flag_lines(record: dict, shown: int = 6) -> list[str]:
+    """One line per leave-one-out flag that any member carries, naming the members."""
+    m = record.get("members") or {}
+    lines = []
+    for key, text in MEMBER_FLAGS:
+        ids = [i for i, f in zip(m.get("id", []), m.get(key) or []) if f]
+        if ids:
+            more = f" and {len(ids) - shown} more" if len(ids) > shown else ""
+            lines.append(f"flag: {len(ids)} member(s) with {text}: {', '.join(map(str, ids[:shown]))}{more}")
     return lines
 
 
@@ -48,6 +82,10 @@ def format_fit(record: dict, tiers=()) -> str:
                                         if record["requested_relation"] != record["relation"] else ""), ""]
     lines += regime_table(record)
     lines.append("cover: share of held-out members inside their own 90 % prediction interval")
+    iv = record.get("intervals", {})
+    if iv.get("method", "model") != "model":
+        lines.append(f"jackknife+ rows: intervals built from each split's training members alone (median width in "
+                     f"the RMSE column); the model file uses {iv['method']} intervals for the {iv['route']} route")
     if record["comparison"]:
         lines += ["", "leave-one-out, against the black box (MAE difference, 95 % bootstrap interval, Wilcoxon p):"]
         for k, c in record["comparison"].items():
@@ -62,6 +100,7 @@ def format_fit(record: dict, tiers=()) -> str:
               f"route (members with a given reaction energy go straight to the curve)"]
     c = record["curve"]
     lines.append("curve: " + ", ".join(f"{k} = {v:.4g}" for k, v in c["params"].items()))
+    lines += member_flag_lines(record)
     lines += [f"warning: {w}" for w in record.get("warnings", [])]
     lines += [f"note: {n}" for n in record.get("notes", [])]
     lines += ["", CAUTION]

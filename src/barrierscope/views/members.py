@@ -2,7 +2,9 @@
 
 One row per member: id, the given reaction energy and barrier, the leave-one-out reaction
 energy of the energy stage, and for every route its leave-one-out prediction, residual
-(prediction − barrier) and 90 % interval; then the domain and extrapolation flags, and
+(prediction − barrier) and 90 % interval; then the domain and extrapolation flags (``energy_pred_outside``: the leave-one-out reaction
+energy outside the other members' span; ``energy_clipped`` and ``unusual_descriptors``: the
+energy stage's guard acted, see :mod:`..estimators.ridge`), and
 ``unusual``: a residual of the curve fed the member's own reaction energy beyond three
 robust standard deviations (a suspect transition state or a mis-assigned energy).
 """
@@ -34,7 +36,8 @@ def members_frame(record: dict, unit: str, rounded: bool = True) -> pd.DataFrame
         out[f"{route}_residual_{u}"] = r(pred - barrier)
         out[f"{route}_low90_{u}"] = r(m["low"][route])
         out[f"{route}_high90_{u}"] = r(m["high"][route])
-    for flag in ("ad_distance", "ad_out", "energy_pred_outside", "energy_true_outside", "unusual"):
+    for flag in ("ad_distance", "ad_out", "energy_pred_outside", "energy_true_outside", "energy_clipped",
+                 "unusual_descriptors", "unusual"):
         if flag in m:
             out[flag] = r(m[flag]) if flag == "ad_distance" else m[flag]
     return out

@@ -33,6 +33,10 @@ def reason(p: dict, unit: str) -> str:
                      f"estimate is extrapolation")
     elif not p["in_domain"]:
         parts.append("out of domain: its current estimate is extrapolation")
+    if p.get("energy_clipped"):
+        parts.append("its predicted reaction energy lay beyond the members' span + 25 % and was clipped there")
+    if p.get("unusual_descriptors"):
+        parts.append("its descriptor combination is unlike the members' (the energy stage's guard acted)")
     if f["goal"] == "predictions":
         parts.append("computing it would cut the predictive variance over the candidate pool the most")
     return "; ".join(parts)
@@ -61,7 +65,11 @@ def format_suggestions(result: dict) -> str:
                "uncertainty and alike in descriptors)")
         lines.append(f"{len(s['picks'])} picks instead of the {s['k']} asked for: {why}")
     for n, p in enumerate(s["picks"], start=1):
-        flag = "" if p["in_domain"] else "  [out of domain]"
+        flag = "".join(f"  [{text}]" for key, text in (("in_domain", "out of domain"),
+                                                       ("energy_outside_span", "dE outside the members' span"),
+                                                       ("energy_clipped", "dE clipped"),
+                                                       ("unusual_descriptors", "unusual descriptors"))
+                       if bool(p.get(key)) != (key == "in_domain"))
         lines.append(f"{n:>2}. {p['id']}  score {p['score']:.3g}  dE {p['energy']:.3g} {unit}  barrier "
                      f"{p['barrier']:.3g} [{p['low']:.3g}, {p['high']:.3g}]{flag}\n    {p['reason']}")
     return "\n".join(lines)

@@ -40,7 +40,9 @@ PLAIN = frozenset({
     "r2", "pi90_coverage", "coverage", "alpha", "alpha_ci95", "alpha_at_zero", "alpha_members", "wilcoxon_p", "p",
     "curvature_p", "span_over_width", "n", "n_test", "n_shuffles", "correlation", "aicc", "bic", "dof", "rows",
     "ok", "seconds", "score", "ad_distance", "temperature", "half_life_s", "rate_constant_per_s", "leffler_alpha",
-    "unusual", "ad_out", "energy_pred_outside", "energy_true_outside", "n_train", "threshold", "rank",
+    "unusual", "energy_clipped", "unusual_descriptors", "energy_outside_span", "folds", "level", "ad_out",
+    "energy_pred_outside",
+    "energy_true_outside", "n_train", "threshold", "rank",
     "rows_per_second", "loo_mae_rank", "n_outside_validity", "candidates", "considered", "k",
 }) | _REL_PLAIN
 

@@ -79,6 +79,18 @@ def weak_link(record: dict, unit: str, tiers=()) -> str:
     return text + f" — the energy stage is the weak link: {advice}."
 
 
+def energy_link_sentence(record: dict, unit: str) -> str:
+    """Said plainly when the barrier does not follow the reaction energy in leave-one-out."""
+    loo = record.get("validation", {}).get("loo", {})
+    if loo.get("curve_beats_mean") is not False:
+        return ""
+    c, m = record["routes"]["curve_on_true_energy"], record["routes"]["family_mean"]
+    return (f"The barrier does not follow the reaction energy in this family: fed the members' own reaction energies, "
+            f"the curve does no better than the family mean (MAE {_g(c['mae'])} against {_g(m['mae'])} {unit}). "
+            f"The physics-constrained routes have nothing to stand on here; a descriptor route that does well does so "
+            f"without the curve.")
+
+
 def chance_sentence(record: dict, unit: str) -> str:
     y = record.get("y_randomization")
     if not y:
@@ -99,12 +111,15 @@ def verdict_text(record: dict, unit: str, tiers=()) -> str:
         parts = [f"Curve-only model: from a computed reaction energy the curve predicts barriers with leave-one-out "
                  f"MAE {_g(c['mae'])} {unit} (family mean {_g(record['routes']['family_mean']['mae'])})."]
         parts += [regime_sentence(k, v, unit) for k, v in regimes.items() if k != "loo"]
-        return " ".join(parts)
-    parts = [regime_sentence(k, v, unit) for k, v in regimes.items()]
+        parts.append(energy_link_sentence(record, unit))
+        return " ".join(p for p in parts if p)
+    parts = [energy_link_sentence(record, unit)] + [regime_sentence(k, v, unit) for k, v in regimes.items()]
     winners = {k: v["winner"] for k, v in regimes.items() if not v.get("skipped")}
     decided = {k: w for k, w in winners.items() if w in ("two_stage", "hybrid", "direct")}
     if len(set(decided.values())) > 1:
         parts.append("The regimes disagree (" + ", ".join(f"{k}: {NAMES[w]}" for k, w in decided.items()) +
                      "): choose the route by where the members you will predict lie.")
-    parts += [chance_sentence(record, unit), weak_link(record, unit, tiers)]
+    parts += [chance_sentence(record, unit)]
+    if regimes.get("loo", {}).get("curve_beats_mean") is not False:   # no weak link when there is no chain
+        parts.append(weak_link(record, unit, tiers))
     return " ".join(p for p in parts if p)
