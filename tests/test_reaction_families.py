@@ -4,7 +4,6 @@ Data: invented families with a known truth (tests/families.py, labelled as inven
 
 import json
 
-import numpy as np
 import pandas as pd
 import pytest
 from typer.testing import CliRunner
