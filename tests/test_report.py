@@ -78,3 +78,21 @@ def test_renders_in_headless_chromium_without_console_errors(report, tmp_path):
 
     pixels = imread(shot)
     assert pixels.std() > 0.05  # not a blank page
+
+
+def test_members_are_drawn_and_the_hammett_plot_is_there(report):
+    path, text = report
+    assert text.count("<svg") >= 5                       # the members behind the largest errors
+    assert "<h2>Hammett plot</h2>" in text and "σp for every position" in text   # substituent mode: σp
+    assert (path.parent / "figs" / "hammett.png").exists()
+
+
+def test_depictions_carry_no_user_text():
+    from barrierscope.views.depict import molecule_svg, reaction_svg, structure_svg
+
+    # CXSMILES atom labels are user text: they must not reach the drawing.
+    svg = molecule_svg("CC(=O)O |$evil<script>x$;;;|")
+    assert svg.startswith("<svg") and "evil" not in svg and "<script" not in svg.lower()
+    assert molecule_svg("not a smiles") == "" and reaction_svg("C1CC>>CC") == ""
+    assert reaction_svg("C=C.C=CC=C>>C1=CCCCC1").startswith("<svg")
+    assert structure_svg({"R1": "[*]C#N", "R2": "[*]OC"}, "substituents").startswith("<svg")

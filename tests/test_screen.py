@@ -128,3 +128,16 @@ def test_no_rates_from_electronic_energies(tmp_path):
     assert "only a Gibbs free-energy barrier gives a rate" in r.stderr
     res = pd.read_csv(out)
     assert res["rate_constant_per_s"].isna().all() and res["barrier_kcal_mol"].notna().all()
+
+
+def test_a_name_column_gives_the_ids_and_notes_are_counted(model_path, library, tmp_path):
+    df = pd.read_csv(library).rename(columns={"id": "Name"})
+    path = tmp_path / "named.csv"
+    df.to_csv(path, index=False)
+    out = tmp_path / "out.csv"
+    s = run_screen(model_path, path, out, ScreenOptions(cache_dir=None), chunk_size=256, progress=False)
+    res = pd.read_csv(out, keep_default_na=False)
+    assert res["id"].tolist() == df["Name"].tolist()
+    # Every row note is counted by kind in the summary the terminal shows.
+    noted = sum(len([p for p in str(t).split("; ") if p]) for t in res["notes"] if t)
+    assert sum(s.notes.values()) == noted

@@ -85,7 +85,7 @@ def print_json(obj) -> None:
 UNITS = typer.Option("kcal/mol", "--units", help="Energy unit of the input columns: kcal/mol, kJ/mol, eV, hartree.")
 KIND = typer.Option("free-energy", "--kind", help="What the energies are: free-energy (gives rates), enthalpy or "
                                                   "electronic.")
-ID = typer.Option(None, "--id", help="Column with member ids (default: an 'id' column if present, else the row).")
+ID = typer.Option(None, "--id", help="Column with member ids (default: an id or name column, any case, else the row).")
 SUBSTITUENTS = typer.Option(None, "--substituents", help="Columns of substituent SMILES, one attachment atom each "
                                                          "([*]C#N), comma-separated.")
 MOLECULE = typer.Option(None, "--molecule", help="Column of whole-molecule SMILES (with --core: cut at the core).")
@@ -105,7 +105,14 @@ SOLVENT = typer.Option(None, "--solvent", help="Implicit solvent (ALPB) for GFN2
 REPORT = typer.Option(None, "--report", help="Write a self-contained HTML report here.")
 TEMPERATURE = typer.Option("298.15K", "--temperature", help="Temperature for rates and half-lives: 298.15K, 25C.")
 # `--units` is the one spelling; `--energy-units` is kept, hidden, for scripts written before.
-LIB_UNITS = typer.Option(None, "--units", "--energy-units", help="Unit of --energy (default: the model's).")
+LIB_UNITS = typer.Option(None, "--units", help="Unit of --energy (default: the model's).")
+OLD_UNITS = typer.Option(None, "--energy-units", hidden=True)
+
+
+def one_unit(units: Optional[str], old: Optional[str]) -> Optional[str]:
+    if units and old and units != old:
+        raise ValueError(f"--units {units} and --energy-units {old} disagree (they are the same option)")
+    return units or old
 
 
 @app.command()
@@ -216,7 +223,7 @@ def screen(model: Path = typer.Argument(..., help="Model file written by `barrie
            transmission: float = typer.Option(1.0, "--transmission", help="Transmission coefficient κ (Eyring)."),
            energy: Optional[str] = typer.Option(None, "--energy", help="Library column of computed reaction energies "
                                                                        "(used instead of predicting them)."),
-           units: Optional[str] = LIB_UNITS, id_column: Optional[str] = ID,
+           units: Optional[str] = LIB_UNITS, energy_units: Optional[str] = OLD_UNITS, id_column: Optional[str] = ID,
            top: int = typer.Option(0, "--top", help="Print the K lowest-barrier rows (in-domain rows first)."),
            workers: int = WORKERS, scheduler: Optional[str] = SCHEDULER,
            chunk_size: int = typer.Option(20000, "--chunk-size", help="Rows per chunk (a task on the cluster)."),
@@ -226,6 +233,8 @@ def screen(model: Path = typer.Argument(..., help="Model file written by `barrie
     from .jobs.executors import make_executor
     from .jobs.predict import ScreenOptions
     from .jobs.screen import run_screen
+
+    units = one_unit(units, energy_units)
     from .units import normalize_unit, parse_temperature
     from .views.screen_text import format_screen
 
@@ -263,7 +272,8 @@ def suggest(model: Path = typer.Argument(..., help="Model file written by `barri
                                                                   "(sharpen the pool's predictions)."),
             energy: Optional[str] = typer.Option(None, "--energy", help="Candidate column of computed reaction "
                                                                         "energies."),
-            units: Optional[str] = LIB_UNITS, id_column: Optional[str] = ID, cache_dir: Optional[Path] = CACHE,
+            units: Optional[str] = LIB_UNITS, energy_units: Optional[str] = OLD_UNITS, id_column: Optional[str] = ID,
+            cache_dir: Optional[Path] = CACHE,
             report: Optional[Path] = REPORT,
             as_json: bool = typer.Option(False, "--json", help="Print one JSON object with the picks.")):
     """Suggest which candidates to compute next, and why."""
@@ -273,6 +283,7 @@ def suggest(model: Path = typer.Argument(..., help="Model file written by `barri
     from .units import normalize_unit
     from .views.suggest_text import format_suggestions, suggest_json
 
+    units = one_unit(units, energy_units)
     fitted = load_model(model)
     result = suggest_file(model, candidates, k, goal, energy, normalize_unit(units) if units else None, id_column,
                           str(cache_dir) if cache_dir is not None else "default", model=fitted)

@@ -20,7 +20,7 @@ import pandas as pd
 
 from ..errors import FitRefused, InputError, describe_row
 from ..units import to_kcal, unit_mixup_hint
-from .tables import READ_ERROR, ROW, parse_numeric, require_columns, row_ids
+from .tables import READ_ERROR, ROW, id_column_of, parse_numeric, require_columns, row_ids
 
 #: Two values this close (kcal/mol) count as the same when merging duplicates.
 DUPLICATE_TOLERANCE = 1e-6
@@ -154,7 +154,7 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
     if problems:
         warnings.append(f"{len(bad_rows)} row(s) left out because of bad values (listed under 'skipped')")
     by_structure = keys is not None
-    if keys is None and (id_col or "id" in df.columns):
+    if keys is None and (id_col or id_column_of(df.columns) is not None):
         keys = ids
     if keys is not None:
         keys = pd.Series(np.asarray(keys, dtype=object)).reset_index(drop=True)

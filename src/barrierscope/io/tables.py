@@ -106,13 +106,24 @@ def parse_numeric(values: pd.Series, column: str) -> tuple[np.ndarray, list[tupl
     return out, problems
 
 
+#: Columns taken as ids without --id, first found (any case): what chemists' tables call them.
+ID_COLUMNS = ("id", "name", "_name", "compound", "compound_id", "mol_id")
+
+
+def id_column_of(columns) -> str | None:
+    """The column :func:`row_ids` uses without --id, or None (then ids are row numbers)."""
+    lower = {str(c).lower(): c for c in columns}
+    return next((lower[k] for k in ID_COLUMNS if k in lower), None)
+
+
 def row_ids(df: pd.DataFrame, id_column: str | None, source: str | os.PathLike) -> pd.Series:
-    """Identifiers per row: the named column, else an ``id`` column, else the row number."""
+    """Identifiers per row: the named column, else the first of :data:`ID_COLUMNS` present
+    (``id``, ``name``, ... in any case), else the row number."""
     if id_column:
         require_columns(df, [id_column], source)
         ids = df[id_column].astype(str)
-    elif "id" in df.columns:
-        ids = df["id"].astype(str)
+    elif (found := id_column_of(df.columns)) is not None:
+        ids = df[found].astype(str)
     else:
         ids = df[ROW].astype(str)
     ids = ids.where(ids.str.strip() != "", df[ROW].astype(str))

@@ -122,6 +122,10 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
                                         opts.regimes))
     primary = primary_route(record["validation"]["loo"], record["routes"]) if has_x else "two_stage"
     notes += record.pop("notes", [])
+    if has_x and "table" in getattr(engine, "tiers", ()):
+        from .hammett import hammett_record
+
+        record["hammett"] = hammett_record(X, spec, barrier)
     jackknife, record["intervals"] = prediction_intervals(X if has_x else None, energy, barrier, primary, record,
                                                           opts)
     notes += record["intervals"].pop("notes")
@@ -139,6 +143,7 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
         training={"n": pairs.n, "ids": pairs.ids, "rows": [int(r) for r in pairs.rows],
                   "keys": pairs.keys if spec.mode != "none" else None,
                   "energy": energy.tolist(), "barrier": barrier.tolist(),
+                  "structures": member_structures(df, spec, pairs.rows),
                   "energy_range": [float(energy.min()), float(energy.max())],
                   "barrier_range": [float(barrier.min()), float(barrier.max())]},
         validation={k: v for k, v in record.items() if k != "curve"},
@@ -176,6 +181,16 @@ def prediction_intervals(X, energy, barrier, primary: str, record: dict, opts: F
     fitted = JackknifePlus(primary, opts.learner, opts.relation, opts.level, opts.random_state).fit(X, barrier, energy)
     entry.update(method=fitted.method, folds=len(fitted.folds_))
     return fitted, entry
+
+
+def member_structures(df, spec, rows) -> dict | None:
+    """Each member's structure columns as given (for the report's drawings), in member order."""
+    from ..io.tables import ROW
+
+    if spec.mode == "none" or ROW not in df.columns:
+        return None
+    table = df.set_index(ROW)
+    return {c: [str(table.at[r, c]) for r in rows] for c in spec.columns if c in table.columns}
 
 
 def _xtb_settings(engine) -> dict:

@@ -23,9 +23,9 @@ def write_report(model, record: dict | None = None, path=None, figures_dir=None,
     comparison = compare_relations(model.training["energy"], model.training["barrier"])
     extra = []
     if screen is not None:
-        extra.append(screen_section(screen, model.units))
+        extra.append(screen_section(screen, model.units, model.spec.mode, model.spec.columns))
     if picks is not None:
-        extra.append(picks_section(picks))
+        extra.append(picks_section(picks, model.spec.mode))
     text = build_report(model, record, comparison, source, screen, picks, Path(figures_dir) if figures_dir else None,
                         extra)
     if path is not None:

@@ -23,7 +23,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..io import parts as partfiles
-from ..io.tables import READ_ERROR, ROW, detect_format, iter_table, require_columns
+from ..io.tables import READ_ERROR, ROW, detect_format, id_column_of, iter_table, require_columns
 from ..views.columns import screen_frame
 from .predict import OK, ScreenOptions, predict_chunk
 from .executors import cached_engine, cached_model, ordered_results
@@ -48,13 +48,14 @@ class ScreenSummary:
     at_floor: int = 0                                # ok rows whose interval reaches the floor
     implausible_half_lives: int = 0                  # below a picosecond or above the age of the universe
     distances: list = field(default_factory=list)    # a sample of domain distances (for the report)
+    notes: Counter = field(default_factory=Counter)  # kind of row note → rows carrying it
 
     def as_dict(self) -> dict:
         return {"rows": self.rows, "ok": self.ok, "errors": dict(self.errors), "out_of_domain": self.out_of_domain,
                 "energy_given": self.energy_given, "seconds": self.seconds, "output": self.output,
                 "rows_per_second": self.rows / self.seconds if self.seconds else None, "floor": self.floor,
                 "at_floor": self.at_floor, "implausible_half_lives": self.implausible_half_lives,
-                "temperature": self.temperature, "top": self.top}
+                "temperature": self.temperature, "top": self.top, "notes": dict(self.notes)}
 
 
 TOP_FIELDS = ("id", "barrier", "low", "high", "alpha", "half_life_s", "energy", "energy_source", "in_domain", "route")
@@ -89,7 +90,13 @@ def _chunk_summary(pred, top: int, structure_columns) -> dict:
             "energy_given": int((pred["energy_source"] == "given").sum()),
             "implausible": int(np.sum(ok & np.isfinite(t) & ((t < HALF_LIFE_BOUNDS[0]) | (t > HALF_LIFE_BOUNDS[1])))),
             "distances": d[np.isfinite(d)][:2000], "barrier": np.where(ok, pred["barrier"].to_numpy(dtype=float), np.nan),
-            "low": pred["low"].to_numpy(dtype=float), "top": _merge_top([], pred, top, structure_columns) if top else []}
+            "low": pred["low"].to_numpy(dtype=float), "top": _merge_top([], pred, top, structure_columns) if top else [],
+            "notes": note_kinds(pred["notes"])}
+
+
+def note_kinds(notes) -> Counter:
+    """Rows per kind of note (a note's text up to its first colon: the kind, without the row's specifics)."""
+    return Counter(part.split(":")[0].strip() for text in notes if text for part in str(text).split("; "))
 
 
 def floor_of(curve) -> float | None:
@@ -128,7 +135,8 @@ def _tasks(library, in_fmt, model, opts, content, key, chunk_size, fmt, top, fol
     needed += [opts.energy_column] if opts.energy_column else []
     for k, chunk in enumerate(iter_table(library, chunk_size=chunk_size, fmt=in_fmt)):
         require_columns(chunk, needed + ([opts.id_column] if opts.id_column else []), library)
-        keep = [c for c in chunk.columns if c in set(needed) | {ROW, opts.id_column, "id", READ_ERROR}]
+        keep = [c for c in chunk.columns if c in set(needed) | {ROW, opts.id_column, id_column_of(chunk.columns),
+                                                                READ_ERROR}]
         yield (content, key, chunk[keep], str(library), opts, fmt, top, part_path(folder, k, fmt) if local else None)
 
 
@@ -143,6 +151,7 @@ def _count(summary: ScreenSummary, part: dict, top: int) -> None:
     summary.out_of_domain += part["out_of_domain"]
     summary.energy_given += part["energy_given"]
     summary.implausible_half_lives += part["implausible"]
+    summary.notes.update(part.get("notes", {}))
     if len(summary.distances) < 20000:
         summary.distances += part["distances"].tolist()
     if top:

@@ -179,3 +179,31 @@ def figure_png(draw, *args, size=(6.4, 4.4), **kwargs) -> bytes:
     fig = new_figure(size)
     draw(fig.subplots(), *args, **kwargs)
     return png(fig)
+
+
+def hammett_png(hammett: dict, barrier_kcal, unit: str) -> bytes:
+    """Barrier and log10 k (Eyring, at the record's temperature) against Σσ, each with the
+    fitted line; ``hammett`` in kcal/mol (:func:`..jobs.hammett.hammett_record`)."""
+    from ..kinetics import eyring_rate
+
+    s = np.asarray([np.nan if v is None else v for v in hammett["sigma_sum"]], dtype=float)
+    b = np.asarray(barrier_kcal, dtype=float)
+    ok = np.isfinite(s) & np.isfinite(b)
+    grid = np.linspace(s[ok].min() - 0.1, s[ok].max() + 0.1, 50)
+    line = hammett["barrier_at_zero_sigma"] + hammett["barrier_per_sigma"] * grid
+    t = hammett["temperature"]
+    fig = new_figure((8.8, 3.6))
+    left, right = fig.subplots(1, 2)
+    left.plot(s[ok], to_unit(b[ok], unit), "o", color=OKABE_ITO[0], label="members")
+    left.plot(grid, to_unit(line, unit), "-", color=OKABE_ITO[4], label="least-squares line")
+    left.set_xlabel("Σσ")
+    left.set_ylabel(f"barrier ({unit})")
+    right.plot(s[ok], np.log10(eyring_rate(b[ok], t)), "o", color=OKABE_ITO[0], label="members")
+    lo, hi = hammett["rho_ci95"]
+    right.plot(grid, np.log10(eyring_rate(line, t)), "-", color=OKABE_ITO[4],
+               label=f"ρ = {hammett['rho']:.2f} [{lo:.2f}, {hi:.2f}]")
+    right.set_xlabel("Σσ")
+    right.set_ylabel(f"log10 k (s⁻¹, Eyring, {t:g} K)")
+    for ax in (left, right):
+        ax.legend(fontsize=7)
+    return png(fig)

@@ -2,7 +2,7 @@
 
 Sections (each where it applies): the verdict; validation in every regime; the members
 behind large or unusual errors; the curve with every relation, its parameters and the
-identifiability verdict; Leffler α; leave-one-out parity and residuals; what drives the
+identifiability verdict; Leffler α; the Hammett plot (table σ); leave-one-out parity and residuals; what drives the
 reaction energy; the applicability domain; a screened library; next calculations; warnings
 and notes; methods and sources. Every energy is shown in the model's unit.
 """
@@ -15,11 +15,13 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
+from . import depict
 from . import figures as fg
 from .cautions import CAUTION
 from .curve_text import KINDS, identifiability_text
 from .fit_text import REGIME_LABELS, ROUTE_LABELS
 from .html import STYLE, esc, figure, num, table
+from .report_extra import hammett_section
 from .units import in_unit, to_unit
 from .verdict import verdict_text
 
@@ -53,7 +55,7 @@ def _validation(rec: dict, unit: str) -> str:
     return text
 
 
-def _members(rec: dict, unit: str) -> str:
+def _members(rec: dict, unit: str, model=None) -> str:
     m = rec.get("members")
     if not m:
         return ""
@@ -64,19 +66,22 @@ def _members(rec: dict, unit: str) -> str:
     unusual = np.asarray(m.get("unusual", []), dtype=bool)
     show = [i for i in order[:10]] + [i for i in np.flatnonzero(unusual) if i not in order[:10]]
     rows = []
+    structures = (model.training.get("structures") if model is not None else None) or {}
     for i in show:
         flags = [t for t, on in (("unusual residual", unusual[i] if unusual.size else False),
                                  ("energy outside span", m["energy_true_outside"][i]),
-                                 ("out of domain", m.get("ad_out", [False] * len(err))[i])) if on]
-        rows.append([esc(str(m["id"][i])), num(m["energy"][i]), num(m["barrier"][i]), num(m["pred"][route][i]),
-                     f"{err[i]:+.3g}", num(m["pred"]["curve_on_true_energy"][i]),
+                                 ("out of domain", m.get("ad_out", [False] * len(err))[i]),
+                                 ("guard acted", m.get("unusual_descriptors", [False] * len(err))[i])) if on]
+        drawing = depict.cell({c: v[i] for c, v in structures.items()}, model.spec.mode) if structures else ""
+        rows.append([esc(str(m["id"][i])), drawing, num(m["energy"][i]), num(m["barrier"][i]),
+                     num(m["pred"][route][i]), f"{err[i]:+.3g}", num(m["pred"]["curve_on_true_energy"][i]),
                      f"<span class='flag'>{esc(', '.join(flags))}</span>" if flags else ""])
     return ("<h2>Members behind the largest errors</h2><p>Leave-one-out predictions of the route the model uses "
             f"({esc(ROUTE_LABELS.get(route, route))}); an <i>unusual residual</i> is one the curve misses by more "
             "than three robust standard deviations even from the member's own reaction energy: check its transition "
             "state and its energies (the full table: <code>fit --members</code>).</p>" +
-            table(["id", f"dE ({esc(unit)})", "barrier", "LOO prediction", "residual", "curve on true dE", "flags"],
-                  rows))
+            table(["id", "structure", f"dE ({esc(unit)})", "barrier", "LOO prediction", "residual",
+                   "curve on true dE", "flags"], rows))
 
 
 def _curve(model, rec, comparison, unit, picks, figures_dir) -> str:
@@ -154,7 +159,8 @@ def build_report(model, record: dict, comparison, source: str = "", screen: dict
              f"{datetime.now(timezone.utc).strftime('%Y-%m-%d %H:%M UTC')} by barrierscope {esc(__version__)}</p>",
              f"<div class='caution'>{esc(CAUTION)}</div>",
              f"<h2>Verdict</h2><div class='verdict'>{esc(verdict_text(rec, unit, model.tiers))}</div>",
-             _validation(rec, unit), _members(rec, unit), _curve(model, rec, comparison, unit, pick_list, figures_dir),
+             _validation(rec, unit), _members(rec, unit, model), _curve(model, rec, comparison, unit, pick_list, figures_dir),
+             hammett_section(record.get("hammett"), model.training["barrier"], unit, figures_dir),
              _diagnostics(model, rec, unit, screen, figures_dir), *extra_sections]
     notes = list(rec.get("warnings", [])) + list(rec.get("notes", []))
     if notes or rec.get("skipped"):

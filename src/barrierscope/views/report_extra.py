@@ -7,12 +7,13 @@ Each function returns HTML (user text escaped) for :func:`.report.build_report`'
 from __future__ import annotations
 
 from ..kinetics import format_duration
+from . import depict
 from .html import esc, num, table
 from .suggest_text import suggest_json
 from .units import in_unit
 
 
-def screen_section(summary: dict, unit: str) -> str:
+def screen_section(summary: dict, unit: str, mode: str = "", structure_columns=()) -> str:
     s = in_unit(summary, unit)
     errors = ", ".join(f"{k} {v}" for k, v in s["errors"].items()) or "none"
     parts = ["<h2>Screened library</h2>",
@@ -23,20 +24,46 @@ def screen_section(summary: dict, unit: str) -> str:
         parts.append(f"<p><b>{s['at_floor']} rows have barrier intervals that reach the floor</b> "
                      f"({num(s['floor'])} {esc(unit)}): the model cannot order them by barrier; they share rank 1.</p>")
     if s.get("top"):
-        rows = [[esc(str(r["id"])), num(r["barrier"]), f"{num(r['low'])} to {num(r['high'])}", num(r["alpha"], 2),
+        rows = [[esc(str(r["id"])), depict.cell({c: r.get(c) for c in structure_columns}, mode), num(r["barrier"]),
+                 f"{num(r['low'])} to {num(r['high'])}", num(r["alpha"], 2),
                  esc(format_duration(r["half_life_s"])) if r["half_life_s"] == r["half_life_s"] else "—",
                  "yes" if r["in_domain"] else "<span class='flag'>no</span>"] for r in s["top"]]
         parts.append("<p>Lowest barriers, in-domain rows first:</p>")
-        parts.append(table(["id", f"barrier ({esc(unit)})", "90 % interval", "α", "half-life", "in domain"], rows))
+        parts.append(table(["id", "structure", f"barrier ({esc(unit)})", "90 % interval", "α", "half-life",
+                            "in domain"], rows))
     return "".join(parts)
 
 
-def picks_section(result: dict) -> str:
+def picks_section(result: dict, mode: str = "") -> str:
     s = suggest_json(result)
-    rows = [[str(k + 1), esc(p["id"]), num(p["score"]), f"{num(p['energy'])} ± {num(p['energy_sd'], 2)}",
-             esc(p["reason"])] for k, p in enumerate(s["picks"])]
+    rows = [[str(k + 1), esc(p["id"]), depict.cell(p.get("structure"), mode), num(p["score"]),
+             f"{num(p['energy'])} ± {num(p['energy_sd'], 2)}", esc(p["reason"])] for k, p in enumerate(s["picks"])]
     note = (f"<p>{s['already_computed']} candidates were left out as already computed (same id or structure as a "
             f"training member).</p>" if s["already_computed"] else "")
     return (f"<h2>What to compute next</h2><p>Goal: {esc(s['goal'])}; {s['considered']} of {s['candidates']} "
             f"candidates considered.</p>{note}" +
-            table(["pick", "id", "score", f"dE ({esc(s['units'])})", "why"], rows))
+            table(["pick", "id", "structure", "score", f"dE ({esc(s['units'])})", "why"], rows))
+
+
+def hammett_section(hammett: dict | None, barrier_kcal, unit: str, figures_dir=None) -> str:
+    """The Hammett plot with ρ and its interval; ``hammett`` in kcal/mol."""
+    from .figures import hammett_png
+    from .html import figure
+
+    if not hammett:
+        return ""
+    h = in_unit(hammett, unit)
+    used = ", ".join(f"{esc(p)}: {esc(c)}" for p, c in h["constants"].items())
+    lo, hi = h["barrier_per_sigma_ci95"]
+    rlo, rhi = h["rho_ci95"]
+    text = (f"<h2>Hammett plot</h2><p>Σσ sums the table constants of each position ({used}), chosen from "
+            f"{esc(h['basis'])}" + (f"; ortho positions left out ({esc(', '.join(h['left_out_positions']))})"
+                                   if h["left_out_positions"] else "") +
+            f". {h['n']} members with every σ ({h['n_missing']} without). Barrier = {num(h['barrier_at_zero_sigma'])} "
+            f"{'+' if h['barrier_per_sigma'] >= 0 else '−'} {num(abs(h['barrier_per_sigma']))}·Σσ {esc(unit)} "
+            f"(95 %: {num(lo)} to {num(hi)} per unit σ; R² {num(h['r2'], 2)}); from the Eyring equation at "
+            f"{num(h['temperature'], 5)} K, ρ = {num(h['rho'], 3)} (95 %: {num(rlo, 3)} to {num(rhi, 3)}): "
+            f"{'negative: electron donors speed the step' if h['rho'] < 0 else 'positive: electron acceptors speed the step'}"
+            f" (L. P. Hammett, J. Am. Chem. Soc. 1937, 59, 96).</p>")
+    return text + figure(hammett_png(hammett, barrier_kcal, unit), "Barrier and log k against Σσ with the "
+                         "least-squares line.", "hammett", figures_dir)

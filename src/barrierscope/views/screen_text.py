@@ -35,6 +35,10 @@ def format_screen(summary: dict, unit: str, energy_kind: str) -> str:
             half = format_duration(r["half_life_s"]) if r.get("half_life_s") == r.get("half_life_s") else "—"
             flag = "in domain" if r["in_domain"] else "OUT OF DOMAIN"
             lines.append(f"  {r['id']}: {r['barrier']:.2f} [{r['low']:.2f}, {r['high']:.2f}]  {half}  {flag}")
+    if s.get("notes"):
+        kinds = sorted(s["notes"].items(), key=lambda kv: -kv[1])
+        lines.append(f"notes on the rows (the notes column of {s['output']}): " +
+                     "; ".join(f"{v} × {k}" for k, v in kinds))
     lines.append(f"written to {s['output']}")
     lines.append(CAUTION)
     return "\n".join(lines)
