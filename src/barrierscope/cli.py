@@ -106,6 +106,9 @@ REPORT = typer.Option(None, "--report", help="Write a self-contained HTML report
 TEMPERATURE = typer.Option("298.15K", "--temperature", help="Temperature for rates and half-lives: 298.15K, 25C.")
 # `--units` is the one spelling; `--energy-units` is kept, hidden, for scripts written before.
 LIB_UNITS = typer.Option(None, "--units", help="Unit of --energy (default: the model's).")
+FAMILY = typer.Option(None, "--family", help="Column naming each row's family: fit the families jointly.")
+SHARE = typer.Option(None, "--share", help="With --family: parameters shared by every family: width (default), "
+                                           "none, or a comma list of floor, midpoint, width.")
 OLD_UNITS = typer.Option(None, "--energy-units", hidden=True)
 
 
@@ -127,8 +130,21 @@ def curve(data: Path = typer.Argument(..., help="Table with one row per member (
                                                                        "bootstrap."),
           n_bootstrap: int = typer.Option(1000, "--n-bootstrap", help="Resamples for --intervals bootstrap."),
           skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) bad rows."),
+          family: Optional[str] = FAMILY, share: Optional[str] = SHARE,
+          figure: Optional[Path] = typer.Option(None, "--figure", help="With --family: write every family's "
+                                                                       "curve to this PNG."),
           as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table.")):
-    """Fit every barrier–reaction-energy relation to a family and compare them."""
+    """Fit every barrier–reaction-energy relation to a family and compare them; with --family,
+    fit several families jointly with shared parameters."""
+    if family is not None:
+        from .jobs.curve import families_file
+        from .views.families_text import families_json, format_families
+
+        record = families_file(data, energy, barrier, family, share, units, kind, id_column, skip_bad_rows, figure)
+        warn(record["warnings"])
+        shown = families_json(record, record["units"])
+        print_json(shown) if as_json else typer.echo(format_families(shown))
+        return
     from .jobs.curve import curve_file
     from .views.curve_text import curve_json, format_curve
 

@@ -80,8 +80,10 @@ class _Profile:
         return float(2.0 * res.cost), self._full(value, res.x)
 
 
-def _profile_end(prof: _Profile, fit: RelationFit, g_cut, u_hat, edge, step, direction, fwd, inv):
-    """One end of the interval in the (possibly log) search coordinate: (value, open?)."""
+def profile_end(prof, fit, g_cut, u_hat, edge, step, direction, fwd, inv):
+    """One end of the interval in the (possibly log) search coordinate: (value, open?).
+    ``prof.rss(value, start)`` gives the minimised RSS at the profiled value and the full
+    parameter vector there; ``fit.params`` is the full vector at the optimum."""
     theta_prev, inside_u = fit.params.copy(), u_hat
     found = None
     while True:
@@ -141,8 +143,8 @@ def profile_intervals(fit: RelationFit, energy, barrier, level: float = 0.95,
         step0 = float(np.clip(se if np.isfinite(se) and se > 0 else 0.1, 1e-4 * (1 + abs(u_hat)), None))
         step0 = min(step0, 1.0) if use_log else step0
         prof = _Profile(fit, x, y, j, lo, hi)
-        low, low_open = _profile_end(prof, fit, g_cut, u_hat, fwd(lo[j]), step0, -1.0, fwd, inv)
-        high, high_open = _profile_end(prof, fit, g_cut, u_hat, fwd(hi[j]), step0, 1.0, fwd, inv)
+        low, low_open = profile_end(prof, fit, g_cut, u_hat, fwd(lo[j]), step0, -1.0, fwd, inv)
+        high, high_open = profile_end(prof, fit, g_cut, u_hat, fwd(hi[j]), step0, 1.0, fwd, inv)
         out[name] = ProfileInterval(low, high, low_open, high_open)
     return out
 

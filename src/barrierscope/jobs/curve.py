@@ -76,3 +76,59 @@ def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: s
                    "skipped": [{"row": p.row, "id": p.ident, "problem": p.message}
                                              for p in pairs.skipped]})
     return record
+
+
+def family_labels(df, column: str, source: str) -> tuple[object, list]:
+    """(the family column as text, problems of rows without a family) — each family is one
+    label of ``column``; an empty cell is a bad row."""
+    from ..io.pairs import RowProblem
+    from ..io.tables import ROW, require_columns, row_ids
+
+    require_columns(df, [column], source)
+    labels = df[column].astype(str).str.strip()
+    empty = df[column].isna().to_numpy() | (labels == "").to_numpy()
+    ids = row_ids(df, None, source)
+    problems = [RowProblem(int(df[ROW].iloc[i]), ids.iloc[i], f"no family in column {column!r}")
+                for i in np.flatnonzero(empty)]
+    return labels.where(~empty, ""), problems
+
+
+def families_file(data, energy: str, barrier: str, family: str, share: str | None = None, units: str = "kcal/mol",
+                  kind: str = "free-energy", id_column: str | None = None, skip_bad_rows: bool = False,
+                  figure=None) -> dict:
+    """The joint record of every family in a table (kcal/mol); each family's rows are checked
+    as one family (the same id may recur in different families: the same substrate with
+    another reagent)."""
+    from ..io.pairs import load_pairs
+    from ..io.tables import read_table
+    from ..units import normalize_unit, parse_energy_kind
+    from .families import joint_record, parse_share
+
+    unit = normalize_unit(units)
+    energy_kind = parse_energy_kind(kind).value
+    df = read_table(data)
+    labels, problems = family_labels(df, family, str(data))
+    if problems and not skip_bad_rows:
+        from ..errors import InputError
+
+        raise InputError(f"{data}: {len(problems)} row(s) have no family:\n  " +
+                         "\n  ".join(map(str, problems[:20])) + "\nfill them, or pass --skip-bad-rows")
+    x, y, fam_labels, warnings, skipped = [], [], [], [], [str(p) for p in problems]
+    for name in sorted(set(labels) - {""}):
+        sub = df[(labels == name).to_numpy()]
+        pairs = load_pairs(sub, f"{data} (family {name})", energy, barrier, unit, id_col=id_column,
+                           skip_bad_rows=skip_bad_rows)
+        x += pairs.energy.tolist()
+        y += pairs.barrier.tolist()
+        fam_labels += [name] * pairs.n
+        warnings += [f"family {name}: {w}" for w in pairs.warnings]
+        skipped += [f"family {name}: {p}" for p in pairs.skipped]
+    record, fit, fam, names = joint_record(np.array(x), np.array(y), fam_labels, share=parse_share(share))
+    record.update({"energy_kind": energy_kind, "units": unit, "family_column": family, "warnings": warnings,
+                   "skipped": skipped})
+    if figure is not None:
+        from ..io.atomic import write_bytes_atomic
+        from ..views.figures import families_png
+
+        write_bytes_atomic(figure, families_png(record, np.array(x), np.array(y), fam, names, unit))
+    return record

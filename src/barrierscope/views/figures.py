@@ -207,3 +207,29 @@ def hammett_png(hammett: dict, barrier_kcal, unit: str) -> bytes:
     for ax in (left, right):
         ax.legend(fontsize=7)
     return png(fig)
+
+
+def families_png(record: dict, energy, barrier, fam, names, unit: str) -> bytes:
+    """Every family's members and its jointly fitted curve, one colour and marker each;
+    ``record`` the joint record (kcal/mol)."""
+    from ..relations import get_relation
+
+    rel = get_relation(record["relation"])
+    x, y, fam = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float), np.asarray(fam)
+    fig = new_figure((6.8, 4.6))
+    ax = fig.subplots()
+    markers = ("o", "s", "^", "D", "v", "P", "X", "<", ">", "*")
+    for k, name in enumerate(names):
+        colour, style = OKABE_ITO[k % len(OKABE_ITO)], LINESTYLES[k % len(LINESTYLES)]
+        sel = fam == k
+        f = record["families"][name]
+        theta = np.array(list(f["params"].values()))
+        grid = np.linspace(x[sel].min() - 3.0, x[sel].max() + 3.0, 200)
+        ax.plot(to_unit(x[sel], unit), to_unit(y[sel], unit), markers[k % len(markers)], color=colour, ms=4,
+                label=f"{name} (n = {f['n']})")
+        ax.plot(to_unit(grid, unit), to_unit(rel.barrier(grid, theta), unit), color=colour, ls=style, lw=1.4)
+    ax.set_xlabel(f"reaction energy ({unit})")
+    ax.set_ylabel(f"barrier ({unit})")
+    ax.set_title("shared: " + (", ".join(record["shared"]) or "none"), fontsize=9)
+    ax.legend(fontsize=7, ncol=2)
+    return png(fig)

@@ -34,7 +34,7 @@ ENERGY = frozenset({
     "low", "high", "mae_mean", "mae_std", "direct_mae_mean", "mean_predictor_mae", "energy_range",
     "barrier_range", "sigma", "span", "center", "barrier_at_center", "intrinsic_barrier", "uphill_excess",
     "misses", "margin", "floor", "gap", "below", "above", "energy_stage_importance", "barrier_per_sigma",
-    "barrier_per_sigma_ci95", "barrier_at_zero_sigma",
+    "barrier_per_sigma_ci95", "barrier_at_zero_sigma", "centre",
 }) | _REL_ENERGY
 ENERGY_SQUARED = frozenset({"delta_mse", "mse_ci95"})
 PLAIN = frozenset({
@@ -43,7 +43,8 @@ PLAIN = frozenset({
     "ok", "seconds", "score", "ad_distance", "temperature", "half_life_s", "rate_constant_per_s", "leffler_alpha",
     "unusual", "energy_clipped", "unusual_descriptors", "energy_outside_span", "folds", "level", "ad_out",
     "energy_pred_outside",
-    "energy_true_outside", "n_train", "threshold", "rank", "rho", "rho_ci95", "sigma_sum",
+    "energy_true_outside", "n_train", "threshold", "rank", "rho", "rho_ci95", "sigma_sum", "alpha_at_centre", "lr",
+    "df", "aicc_shared", "aicc_separate",
     "rows_per_second", "loo_mae_rank", "n_outside_validity", "candidates", "considered", "k",
 }) | _REL_PLAIN
 

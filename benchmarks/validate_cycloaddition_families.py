@@ -1,0 +1,74 @@
+"""Several families at once on the open [3+2] cycloaddition set, grouped by dipole class.
+
+Data: T. Stuyver, K. Jorner, C. W. Coley, Sci. Data 2023, 10, 66 (MIT licence), read from
+../shared/datasets (never copied). A family is one dipole class (C-N-C, C-O-C, C-N-N, ...)
+with at least --min-n reactions, each subsampled to --max-n (seed 0) so that leave-one-out
+by member stays quick. Prints, as Markdown for the README: the sharing test and validation
+for sharing nothing, the width (the default), and every parameter; then each family's
+parameters from the joint fit (width shared) beside its separate fit.
+
+    python benchmarks/validate_cycloaddition_families.py [--max-n 60] [--min-n 30]
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from barrierscope.io.opendata import cycloaddition_path, load_cycloaddition
+from barrierscope.jobs.families import joint_record
+
+SHARES = (("none", ()), ("width", ("width",)), ("floor, midpoint, width", ("floor", "midpoint", "width")))
+
+
+def data(max_n: int, min_n: int):
+    df = load_cycloaddition(cycloaddition_path(Path(__file__).resolve().parents[1]))
+    keep = df.groupby("dipole_class").filter(lambda g: len(g) >= min_n)
+    parts = [g.sample(min(len(g), max_n), random_state=0) for _, g in keep.groupby("dipole_class")]
+    sub = pd.concat(parts, ignore_index=True)
+    return sub["G_r"].to_numpy(float), sub["G_act"].to_numpy(float), sub["dipole_class"].tolist()
+
+
+def _g(v, d=3):
+    return "—" if v is None or not np.isfinite(v) else f"{v:.{d}g}"
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--max-n", type=int, default=60)
+    ap.add_argument("--min-n", type=int, default=30)
+    args = ap.parse_args()
+    t0 = time.perf_counter()
+    x, y, labels = data(args.max_n, args.min_n)
+    print(f"{len(set(labels))} dipole classes, {x.size} reactions (at most {args.max_n} per class), kcal/mol\n")
+    print("| shared | P | s | LR test p | AICc shared | AICc separate | LOO MAE joint | LOO MAE alone | "
+          "LOO MAE one curve | leave-family-out MAE |")
+    print("| --- " * 10 + "|")
+    records = {}
+    for label, share in SHARES:
+        rec, fit, _, _ = joint_record(x, y, labels, share=share)
+        records[label] = rec
+        t, loo, lofo = rec["sharing_test"], rec["validation"]["loo"]["routes"], rec["validation"]["leave_family_out"]
+        print(f"| {label} | {fit.layout.size} | {_g(rec['sigma'])} | {_g(t['p'], 2)} | {_g(t['aicc_shared'], 5)} | "
+              f"{_g(t['aicc_separate'], 5)} | {_g(loo['joint']['mae'])} | {_g(loo['separate']['mae'])} | "
+              f"{_g(loo['pooled']['mae'])} | {_g(lofo['routes']['joint']['mae']) if 'routes' in lofo else '—'} |")
+    print("\nWidth shared: each class's parameters (95 % profile intervals) against its separate fit:\n")
+    print("| dipole class | n | floor | midpoint | width (shared) | width alone | α at centre |")
+    print("| --- " * 7 + "|")
+    for name, f in records["width"]["families"].items():
+        p, ci, sep = f["params"], f["ci95"], f.get("separate", {})
+        alone = (f"{_g(sep['params']['width'])} [{_g(sep['ci95']['width'][0])}, {_g(sep['ci95']['width'][1])}]"
+                 if sep else "—")
+        cells = [f"{_g(p[k])} [{_g(ci[k][0])}, {_g(ci[k][1])}]" for k in ("floor", "midpoint", "width")]
+        print(f"| {name} | {f['n']} | " + " | ".join(cells) + f" | {alone} | "
+              f"{_g(f['derived']['alpha_at_centre'], 2)} |")
+    print(f"({time.perf_counter() - t0:.0f} s)", file=sys.stderr)
+
+
+if __name__ == "__main__":
+    main()
