@@ -72,3 +72,30 @@ def methylation_family(n: int = 24, seed: int = 0, path=None, offset: int = 0) -
     if path is not None:
         df.to_csv(path, index=False)
     return df
+
+
+#: Invented reagents for several families at once: (energy offset, floor, midpoint) — the same
+#: substrates react with each reagent; every family's curve has the width of TRUE_CURVE.
+REAGENTS = {"reagent A": (0.0, 4.0, -6.0), "reagent B": (6.0, 7.0, -2.0), "reagent C": (-8.0, 2.5, -9.0)}
+
+
+def multi_family(n: int = 22, seed: int = 0, path=None) -> pd.DataFrame:
+    """Invented: the substituent family above run with three reagents (a `reagent` column);
+    each reagent shifts the reaction energy and has its own floor and midpoint, all share the
+    width."""
+    from barrierscope.relations import get_relation
+
+    base = substituent_family(n, seed)
+    rng = np.random.default_rng(seed + 100)
+    frames = []
+    for name, (shift, floor, mid) in REAGENTS.items():
+        d = base.copy()
+        d["reagent"] = name
+        d["dE"] = (d["dE"] + shift + rng.normal(0, 0.5, n)).round(3)
+        theta = np.array([floor, mid, TRUE_CURVE[2]])
+        d["dG"] = (get_relation("asymptotic").barrier(d["dE"].to_numpy(), theta) + rng.normal(0, 0.8, n)).round(3)
+        frames.append(d)
+    df = pd.concat(frames, ignore_index=True)
+    if path is not None:
+        df.to_csv(path, index=False)
+    return df

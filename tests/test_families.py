@@ -148,3 +148,63 @@ def test_rows_without_a_family_are_named(tmp_path):
     pd.DataFrame({"reagent": lab, "dE": x, "dG": y}).to_csv(path, index=False)
     r = CliRunner().invoke(app, ["curve", str(path), "--energy", "dE", "--barrier", "dG", "--family", "reagent"])
     assert r.exit_code != 0 and "row 8" in r.output and "no family" in r.output
+
+
+@pytest.fixture(scope="module")
+def family_model(tmp_path_factory):
+    from families import multi_family
+
+    folder = tmp_path_factory.mktemp("multi")
+    df = multi_family(22, seed=0, path=folder / "multi.csv")
+    model = folder / "model.json"
+    r = CliRunner().invoke(app, ["fit", str(folder / "multi.csv"), "--substituents", "R1,R2", "--energy", "dE",
+                                 "--barrier", "dG", "--family", "reagent", "-o", str(model), "--json",
+                                 "--shuffles", "0", "--cache-dir", str(folder / "cache")])
+    assert r.exit_code == 0, r.output
+    return folder, df, model, json.loads(r.stdout)
+
+
+def test_fit_family_contract_and_the_joint_curves_pay(family_model):
+    from families import REAGENTS
+
+    _, _, _, s = family_model
+    assert set(s["families"]) == set(REAGENTS) and s["shared"] == ["width"]
+    assert {"p", "aicc_shared", "aicc_separate"} <= set(s["sharing_test"])
+    for name, f in s["families"].items():
+        assert f["n"] == 22 and set(f["ci95"]) == {"floor", "midpoint", "width"}
+        floor = REAGENTS[name][1]
+        assert f["ci95"]["floor"][0] - 1.0 < floor < f["ci95"]["floor"][1] + 1.0
+    loo = s["family_validation"]["loo"]["routes"]
+    # Each reagent's own curve beats one curve for all three (invented families with distinct floors).
+    assert loo["two_stage"]["mae"] < s["validation"]["loo"]["routes"]["two_stage"]["mae"]
+    assert s["primary_route"] in ("two_stage", "direct")
+    assert any(c.startswith("family=") for c in s["features"])      # family offsets in the energy stage
+
+
+def test_screen_and_suggest_with_a_family_column(family_model, tmp_path):
+    folder, df, model, _ = family_model
+    lib = df[["id", "R1", "R2", "reagent"]].head(30).copy()
+    lib.loc[0, "reagent"] = "reagent Z"
+    lib.to_csv(tmp_path / "lib.csv", index=False)
+    out = tmp_path / "out.csv"
+    r = CliRunner().invoke(app, ["screen", str(model), str(tmp_path / "lib.csv"), "-o", str(out), "--cache-dir",
+                                 str(folder / "cache")])
+    assert r.exit_code == 0, r.output
+    res = pd.read_csv(out, keep_default_na=False)
+    assert len(res) == 30 and res.loc[0, "error_kind"] == "unknown_family" and "reagent Z" in res.loc[0, "status"]
+    ok = res[res["status"] == "ok"].merge(df, on=["id", "reagent"])
+    assert np.mean(np.abs(ok["barrier_kcal_mol"].astype(float) - ok["dG"])) < 1.5   # training members, own curves
+    assert "their family's floor" in r.output or "floor" not in r.output
+    # Members already computed with their reagent are left out; new substrates are considered.
+    from families import substituent_family
+
+    done = df[df["reagent"] == "reagent A"][["id", "R1", "R2", "reagent"]].head(5)
+    fresh = substituent_family(12, seed=9)[["R1", "R2"]].tail(5).assign(id=[f"n{i}" for i in range(5)],
+                                                                        reagent="reagent B")
+    pd.concat([done, fresh]).to_csv(tmp_path / "cands.csv", index=False)
+    r = CliRunner().invoke(app, ["suggest", str(model), str(tmp_path / "cands.csv"), "-k", "2", "--json",
+                                 "--cache-dir", str(folder / "cache")])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.stdout)
+    assert s["already_computed"] == 5 and s["considered"] == 5
+    assert {p["id"] for p in s["picks"]} <= {f"n{i}" for i in range(5)}

@@ -200,6 +200,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
         id_column: Optional[str] = ID,
         shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
         skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) unusable rows."),
+        family: Optional[str] = FAMILY, share: Optional[str] = SHARE,
         prediction_intervals: str = typer.Option("model", "--prediction-intervals",
                                                  help="model (each route's own) or jackknife+ (from the family's "
                                                       "held-out errors; coverage measured in every regime)."),
@@ -211,13 +212,15 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
         figures: Optional[Path] = typer.Option(None, "--figures", help="Also write the report's figures as PNG here."),
         as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table.")):
     """Fit a family, validate every route in every regime, and write the model file."""
+    from .jobs.families import parse_share
     from .jobs.fit import FitOptions, fit_file
     from .views.fit_text import fit_json, format_fit
 
     extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
     opts = FitOptions(energy_column=energy, barrier_column=barrier, learner=learner, relation=relation, units=units,
                       energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
-                      n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals)
+                      n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals,
+                      family_column=family, share=parse_share(share))
     model, record = fit_file(data, output, (substituents, molecule, core, reaction, template, multiplicity), tiers,
                              opts, cache_dir=cache_dir, workers=workers, scheduler=scheduler, xtb_level=xtb_level,
                              solvent=solvent, members=members, report=report, figures=figures)

@@ -134,6 +134,32 @@ class JointFit:
         return (out, np.sqrt(var)) if return_std else out
 
 
+    def slope(self, energy, fam) -> np.ndarray:
+        """Local Leffler α of each member's family curve at ``energy``."""
+        e, fam = np.asarray(energy, dtype=float), np.asarray(fam, dtype=int)
+        out = np.full(e.size, np.nan)
+        for k in range(self.layout.n_families):
+            idx = np.flatnonzero(fam == k)
+            if idx.size:
+                out[idx] = self.relation.slope(e[idx], self.theta[k])
+        return out
+
+    def as_dict(self) -> dict:
+        return {"relation": self.relation.name, "param_names": list(self.layout.param_names),
+                "shared": list(self.layout.shared), "n_families": self.layout.n_families, "u": self.u.tolist(),
+                "cov": self.cov.tolist(), "rss": self.rss, "n": self.n, "n_per_family": self.n_per_family.tolist(),
+                "at_bound": list(self.at_bound)}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "JointFit":
+        from ..relations import get_relation
+
+        layout = JointLayout(tuple(d["param_names"]), tuple(d["shared"]), int(d["n_families"]))
+        return cls(get_relation(d["relation"]), layout, np.asarray(d["u"], dtype=float),
+                   np.asarray(d["cov"], dtype=float), float(d["rss"]), int(d["n"]),
+                   np.asarray(d["n_per_family"], dtype=int), tuple(d.get("at_bound", ())))
+
+
 def family_bounds(rel: Relation, layout: JointLayout, x, y, fam) -> tuple[np.ndarray, np.ndarray]:
     """Joint bounds: each family's own from its members; shared ones the widest over families."""
     lows, highs = zip(*[rel.bounds(x[fam == k], y[fam == k]) for k in range(layout.n_families)])

@@ -48,6 +48,7 @@ class Pairs:
     warnings: list[str] = field(default_factory=list)
     keys: list[str] | None = None          # the members' identity keys (structures, else ids)
     skipped: list[RowProblem] = field(default_factory=list)
+    families: list[str] | None = None      # each member's family (several families at once)
 
     @property
     def n(self) -> int:

@@ -78,21 +78,6 @@ def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: s
     return record
 
 
-def family_labels(df, column: str, source: str) -> tuple[object, list]:
-    """(the family column as text, problems of rows without a family) — each family is one
-    label of ``column``; an empty cell is a bad row."""
-    from ..io.pairs import RowProblem
-    from ..io.tables import ROW, require_columns, row_ids
-
-    require_columns(df, [column], source)
-    labels = df[column].astype(str).str.strip()
-    empty = df[column].isna().to_numpy() | (labels == "").to_numpy()
-    ids = row_ids(df, None, source)
-    problems = [RowProblem(int(df[ROW].iloc[i]), ids.iloc[i], f"no family in column {column!r}")
-                for i in np.flatnonzero(empty)]
-    return labels.where(~empty, ""), problems
-
-
 def families_file(data, energy: str, barrier: str, family: str, share: str | None = None, units: str = "kcal/mol",
                   kind: str = "free-energy", id_column: str | None = None, skip_bad_rows: bool = False,
                   figure=None) -> dict:
@@ -102,7 +87,7 @@ def families_file(data, energy: str, barrier: str, family: str, share: str | Non
     from ..io.pairs import load_pairs
     from ..io.tables import read_table
     from ..units import normalize_unit, parse_energy_kind
-    from .families import joint_record, parse_share
+    from .families import family_labels, joint_record, parse_share
 
     unit = normalize_unit(units)
     energy_kind = parse_energy_kind(kind).value

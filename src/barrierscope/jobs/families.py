@@ -43,6 +43,30 @@ def parse_share(text: str | None, relation: str = "asymptotic") -> tuple[str, ..
     return tuple(n for n in names if n in items)
 
 
+def family_labels(df, column: str, source: str) -> tuple[object, list]:
+    """(the family column as text, problems of rows without a family) — each family is one
+    label of ``column``; an empty cell is a bad row."""
+    from ..io.pairs import RowProblem
+    from ..io.tables import ROW, require_columns, row_ids
+
+    require_columns(df, [column], source)
+    labels = df[column].astype(str).str.strip()
+    empty = df[column].isna().to_numpy() | (labels == "").to_numpy()
+    ids = row_ids(df, None, source)
+    problems = [RowProblem(int(df[ROW].iloc[i]), ids.iloc[i], f"no family in column {column!r}")
+                for i in np.flatnonzero(empty)]
+    return labels.where(~empty, ""), problems
+
+
+def one_hot(labels, names) -> "pd.DataFrame":
+    """Family indicator columns ``family=<name>`` (1.0 or 0.0): with shared descriptor weights,
+    each family gets its own offset in the energy stage and the black box."""
+    import pandas as pd
+
+    labels = np.asarray([str(v) for v in labels], dtype=object)
+    return pd.DataFrame({f"family={n}": (labels == n).astype(float) for n in names})
+
+
 def family_codes(labels) -> tuple[np.ndarray, list[str]]:
     """(code per member, family names in code order: sorted)."""
     labels = np.asarray([str(v) for v in labels], dtype=object)
@@ -72,9 +96,11 @@ def _family_entry(fit, k, prof, sep, x, y, fam, level) -> dict:
 
 
 def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("width",), level: float = 0.95,
-                 validate: bool = True) -> dict:
-    """The joint-fit record: ``families`` {name: {n, params, ci95, ...}}, ``shared``,
-    ``sharing_test`` {p, aicc_shared, aicc_separate, ...} and ``validation``."""
+                 validate: bool = True, energy_pred=None):
+    """(record, JointFit, family codes, family names). The record: ``families`` {name: {n,
+    params, ci95, ...}}, ``shared``, ``sharing_test`` {p, aicc_shared, aicc_separate, ...} and
+    ``validation``; with ``energy_pred`` (each member's leave-one-out predicted reaction
+    energy) the member validation also scores the two-stage route through the joint curves."""
     x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
     fam, names = family_codes(labels)
     if len(names) < 2:
@@ -88,7 +114,7 @@ def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("
               "families": {n: _family_entry(fit, k, prof, separate[k], x, y, fam, level) for k, n in enumerate(names)},
               "too_small_alone": [names[k] for k, s in enumerate(separate) if s is None]}
     if validate:
-        record["validation"] = {"loo": member_loo(fit, x, y, fam, separate),
+        record["validation"] = {"loo": member_loo(fit, x, y, fam, separate, energy_pred),
                                 "leave_family_out": leave_family_out(fit, x, y, fam, names)}
     return record, fit, fam, names
 
@@ -102,11 +128,13 @@ def _scores(y, preds: dict, base: str = "joint") -> dict:
             "joint_beats": [k.split("_vs_")[1] for k, c in pairs.items() if beats(c)]}
 
 
-def member_loo(fit, x, y, fam, separate) -> dict:
-    """Leave-one-out by member: joint, separate, pooled and family-mean predictions."""
+def member_loo(fit, x, y, fam, separate, energy_pred=None) -> dict:
+    """Leave-one-out by member: joint, separate, pooled and family-mean predictions (and the
+    two-stage route through the joint curves, from ``energy_pred``)."""
     n, own = x.size, len(fit.layout.own_idx)
     counts = np.bincount(fam, minlength=fit.layout.n_families)
-    preds = {r: np.full(n, np.nan) for r in ("joint", "separate", "pooled", "family_mean")}
+    routes = ("joint", "separate", "pooled", "family_mean") + (("two_stage",) if energy_pred is not None else ())
+    preds = {r: np.full(n, np.nan) for r in routes}
     rel = fit.relation
     pooled = fit_relation(rel, x, y)
     for i in range(n):
@@ -118,6 +146,8 @@ def member_loo(fit, x, y, fam, separate) -> dict:
         if counts[k] - 1 >= own + 1:
             refit = fit_joint(rel, x[keep], y[keep], fam[keep], fit.layout.n_families, fit.layout.shared, start=fit.u)
             preds["joint"][i] = refit.predict(x[i:i + 1], [k])[0]
+            if energy_pred is not None:
+                preds["two_stage"][i] = refit.predict(np.asarray(energy_pred, dtype=float)[i:i + 1], [k])[0]
         if separate[k] is not None and same.sum() >= rel.n_params + 1:
             try:
                 preds["separate"][i] = rel.barrier(x[i:i + 1], fit_relation(rel, x[same], y[same],

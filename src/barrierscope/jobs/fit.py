@@ -44,6 +44,9 @@ class FitOptions:
     regimes: tuple[str, ...] = REGIMES
     #: "model" (each route's own intervals) or "jackknife+" (the primary route's, from refits)
     prediction_intervals: str = "model"
+    #: several families at once: the column naming each member's family, and the shared parameters
+    family_column: str | None = None
+    share: tuple[str, ...] = ("width",)
 
 INTERVAL_METHODS = ("model", "jackknife+")
 
@@ -126,6 +129,12 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
         from .hammett import hammett_record
 
         record["hammett"] = hammett_record(X, spec, barrier)
+    joint = None
+    if opts.family_column:
+        if opts.prediction_intervals != "model":
+            raise ValueError("--prediction-intervals jackknife+ is not available with --family yet: its refits know "
+                             "one curve, not each family's")
+        joint, primary = _families(energy, barrier, pairs.families, record, primary, opts, notes)
     jackknife, record["intervals"] = prediction_intervals(X if has_x else None, energy, barrier, primary, record,
                                                           opts)
     notes += record["intervals"].pop("notes")
@@ -143,14 +152,33 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
         training={"n": pairs.n, "ids": pairs.ids, "rows": [int(r) for r in pairs.rows],
                   "keys": pairs.keys if spec.mode != "none" else None,
                   "energy": energy.tolist(), "barrier": barrier.tolist(),
-                  "structures": member_structures(df, spec, pairs.rows),
+                  "structures": member_structures(df, spec, pairs.rows), "families": pairs.families,
                   "energy_range": [float(energy.min()), float(energy.max())],
                   "barrier_range": [float(barrier.min()), float(barrier.max())]},
         validation={k: v for k, v in record.items() if k != "curve"},
         primary_route=primary, level=opts.level, warnings=warnings,
         descriptor_versions=_versions(engine) if has_x else {}, xtb=_xtb_settings(engine) if has_x else {},
-        intervals=jackknife)
+        intervals=jackknife, family_column=opts.family_column, joint=joint)
     return model, record
+
+
+def _families(energy, barrier, labels, record: dict, primary: str, opts: FitOptions, notes: list):
+    """The families' joint curves and their record (``families``, ``shared``, ``sharing_test``,
+    ``family_validation``); the model's route: through the joint curves unless the black box
+    won leave-one-out (the hybrid's correction is learned for one curve, so it is not offered)."""
+    from .families import joint_record
+
+    members = record.get("members") or {}
+    e_loo = members.get("energy_pred")
+    rec, fit, _, names = joint_record(energy, barrier, labels, opts.relation if opts.relation != "auto" else
+                                      "asymptotic", opts.share, energy_pred=e_loo)
+    record.update({"families": rec["families"], "shared": rec["shared"], "sharing_test": rec["sharing_test"],
+                   "family_validation": rec["validation"], "family_names": names,
+                   "family_column": opts.family_column})
+    if primary == "hybrid":
+        notes.append("the hybrid route is not offered with --family (its correction is learned for one "
+                               "curve); the model predicts through each family's own curve")
+    return {"fit": fit, "names": names}, ("direct" if primary == "direct" else "two_stage")
 
 
 def prediction_intervals(X, energy, barrier, primary: str, record: dict, opts: FitOptions):

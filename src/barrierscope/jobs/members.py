@@ -55,7 +55,21 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts
         extra, bad = _extra_matrix(df, opts.extra_descriptors, ids, source)
         problems += bad
         X = extra if X is None else pd.concat([X, extra], axis=1)
+    labels = None
+    if getattr(opts, "family_column", None):
+        from .families import family_labels, one_hot
+
+        labels, bad = family_labels(df, opts.family_column, source)
+        problems += bad
+        # The same substrate may be a member of several families (another reagent, solvent...).
+        base = keys if keys is not None else ids
+        keys = pd.Series([f"{k}|family={f}" for k, f in zip(base, labels)])
+        if X is not None:
+            X = pd.concat([X.reset_index(drop=True), one_hot(labels, sorted(set(labels) - {""}))], axis=1)
+            X.index = df.index
     pairs = load_pairs(df, source, opts.energy_column, opts.barrier_column, unit, id_col=opts.id_column,
                        skip_bad_rows=opts.skip_bad_rows, keys=keys, extra_bad=problems)
+    if labels is not None:
+        pairs.families = [str(v) for v in np.asarray(labels)[pairs.keep]]
     X = None if X is None else X.loc[pairs.keep].reset_index(drop=True)
     return X, pairs, spec

@@ -16,6 +16,8 @@ from scipy import special
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import HybridRegressor
+from ..curves.intervals import t_quantile
+from ..curves.joint import JointFit
 from ..estimators.jackknife import JackknifePlus
 from ..estimators.two_stage import TwoStageRegressor, known_energies, n_rows
 from ..structures.spec import InputSpec
@@ -46,6 +48,15 @@ class FamilyModel:
     warnings: list[str] = field(default_factory=list)
     #: jackknife+ (CV+) intervals of the primary route, when fitted with them; else the model's own
     intervals: JackknifePlus | None = None
+    #: several families at once: the column naming a row's family, and the families' joint curves
+    #: ({"fit": JointFit, "names": [family, ...]})
+    family_column: str | None = None
+    joint: dict | None = None
+
+    def family_codes(self, labels) -> np.ndarray:
+        """Each label's family code; −1 for a family the model does not know."""
+        index = {n: k for k, n in enumerate(self.joint["names"])}
+        return np.array([index.get(str(v).strip(), -1) for v in labels], dtype=int)
 
     @property
     def curve(self):
@@ -56,9 +67,10 @@ class FamilyModel:
         return self.two_stage.energy_ is not None
 
     # -- prediction ---------------------------------------------------------------------
-    def predict(self, X, energy=None) -> dict[str, np.ndarray]:
+    def predict(self, X, energy=None, family=None) -> dict[str, np.ndarray]:
         """Predictions (kcal/mol) for members with descriptors ``X`` (DataFrame; None for a
-        curve-only model) and optional known reaction energies (NaN where unknown)."""
+        curve-only model) and optional known reaction energies (NaN where unknown); a
+        several-families model needs each member's ``family`` code (:meth:`family_codes`)."""
         n = n_rows(X, energy)
         given = known_energies(energy, n)
         if not self.has_structures and not np.all(np.isfinite(given)):
@@ -66,6 +78,13 @@ class FamilyModel:
         ts = self.two_stage.predict_parts(X, given)
         barrier, std = ts["barrier"].copy(), ts["barrier_std"].copy()
         q = np.full(n, self.curve.interval_quantile(self.level))
+        if self.joint is not None:
+            fit, codes = self.joint["fit"], np.asarray(family, dtype=int)
+            if family is None or (codes < 0).any():
+                raise ValueError("a several-families model needs a known family for every member")
+            barrier, std = fit.predict(ts["energy"], codes, return_std=True, energy_std=ts["energy_std"])
+            ts["alpha"] = fit.slope(ts["energy"], codes)
+            q = np.full(n, t_quantile(self.level, max(fit.dof, 1)))
         route = np.full(n, "curve_on_given_energy", dtype=object)
         unknown = ~ts["energy_given"]
         route[unknown] = "two_stage"
@@ -75,7 +94,7 @@ class FamilyModel:
             hb = self.hybrid.predict_parts(X, given, two_stage_parts=ts)
             barrier[unknown], std[unknown], q[unknown] = hb["barrier"][unknown], hb["barrier_std"][unknown], z
             route[unknown] = "hybrid"
-        elif self.primary_route == "direct" and unknown.any():
+        elif self.primary_route == "direct" and unknown.any():  # (with families: one-hot offsets in X)
             db, ds = self.direct.predict(X, return_std=True)
             barrier[unknown], std[unknown], q[unknown] = db[unknown], ds[unknown], z
             route[unknown] = "direct"
@@ -95,7 +114,8 @@ class FamilyModel:
             "alpha": ts["alpha"], "route": route, "ad_distance": dist, "ad_descriptor_out": out_desc,
             "ad_energy_out": self.domain.energy_outside(ts["energy"]),
             "off_manifold": ts["off_manifold"], "energy_clipped": ts["energy_clipped"],
-            "relation_outside": self.curve.relation_.outside_validity(ts["energy"], self.curve.params_),
+            "relation_outside": (np.zeros(n, dtype=bool) if self.joint is not None else
+                                 self.curve.relation_.outside_validity(ts["energy"], self.curve.params_)),
         }
 
     # -- persistence --------------------------------------------------------------------
@@ -112,6 +132,9 @@ class FamilyModel:
             "domain": self.domain.as_dict(), "training": self.training, "validation": self.validation,
             "warnings": list(self.warnings),
             "prediction_intervals": None if self.intervals is None else self.intervals.as_dict(),
+            "family_column": self.family_column,
+            "joint": None if self.joint is None else {"names": self.joint["names"],
+                                                      "fit": self.joint["fit"].as_dict()},
         }
 
     @classmethod
@@ -128,4 +151,6 @@ class FamilyModel:
                    descriptor_versions=d.get("descriptor_versions", {}), xtb=d.get("xtb", {}),
                    warnings=list(d.get("warnings", [])),
                    intervals=JackknifePlus.from_dict(d["prediction_intervals"]) if d.get("prediction_intervals")
-                   else None)
+                   else None, family_column=d.get("family_column"),
+                   joint=None if not d.get("joint") else {"names": list(d["joint"]["names"]),
+                                                          "fit": JointFit.from_dict(d["joint"]["fit"])})

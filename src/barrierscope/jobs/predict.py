@@ -56,7 +56,7 @@ def _given_energies(chunk, model, opts, status, kind) -> np.ndarray:
     return values * factor_to_kcal(opts.energy_units or model.units)
 
 
-def _descriptors(chunk, model, opts, engine, status, kind):
+def _descriptors(chunk, model, opts, engine, status, kind, labels=None):
     from ..descriptors.featurize import featurize
 
     block = featurize(chunk, model.spec, engine, max_atoms=opts.max_atoms)
@@ -65,9 +65,29 @@ def _descriptors(chunk, model, opts, engine, status, kind):
             status[i], kind[i] = block.status[i], block.error_kind[i] or "structure"
     X = block.X
     for c in model.features:
-        if c not in X.columns:  # a user's extra descriptor absent here is imputed like any missing value
+        if c.startswith("family=") and labels is not None:   # the family's indicator (several families)
+            X[c] = (labels == c[len("family="):]).astype(float)
+        elif c not in X.columns:  # a user's extra descriptor absent here is imputed like any missing value
             X[c] = np.nan
     return X[model.features], block.notes.copy(), block
+
+
+def _families(chunk, model, status, kind):
+    """(labels, codes) of a several-families model's rows; an unknown family is the row's status."""
+    if model.joint is None:
+        return None, None
+    col = model.family_column
+    if col not in chunk.columns:
+        from ..errors import InputError
+
+        raise InputError(f"the model fits several families: the library needs their column {col!r}")
+    labels = chunk[col].astype(str).str.strip().to_numpy()
+    codes = model.family_codes(labels)
+    for i in np.flatnonzero(codes < 0):
+        if status[i] == OK:
+            status[i], kind[i] = (f"unknown family {labels[i]!r} (the model knows "
+                                  f"{', '.join(model.joint['names'])})"), "unknown_family"
+    return labels, codes
 
 
 def _rates(frame: pd.DataFrame, idx, p: dict, opts: ScreenOptions) -> None:
@@ -96,11 +116,13 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
         bad = (chunk[READ_ERROR].astype(str) != "").to_numpy()
         status[bad], kind[bad] = chunk.loc[bad, READ_ERROR].to_numpy(), "unreadable"
     given = _given_energies(chunk, model, opts, status, kind)
+    labels, codes = _families(chunk, model, status, kind)
     X = block = None
     if model.has_structures:
-        X, notes, block = _descriptors(chunk, model, opts, engine, status, kind)
+        X, notes, block = _descriptors(chunk, model, opts, engine, status, kind, labels)
     frame = pd.DataFrame({"row": chunk[ROW].to_numpy(), "id": row_ids(chunk, opts.id_column, source).to_numpy()})
-    for c in [*model.spec.columns, *([opts.energy_column] if opts.energy_column else [])]:
+    for c in [*model.spec.columns, *([opts.energy_column] if opts.energy_column else []),
+              *([model.family_column] if model.family_column else [])]:
         if c in chunk.columns and c not in frame.columns:
             frame[c] = chunk[c].astype(str).str.replace("\n", " ", regex=False).to_numpy()
     frame["status"], frame["error_kind"] = status, kind
@@ -112,7 +134,8 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
         frame[c] = False
     idx = np.flatnonzero(status == OK)
     if idx.size:
-        p = model.predict(None if X is None else X.iloc[idx].reset_index(drop=True), given[idx])
+        p = model.predict(None if X is None else X.iloc[idx].reset_index(drop=True), given[idx],
+                          None if codes is None else codes[idx])
         for c, key in (("energy", "energy"), ("energy_sd", "energy_std"), ("barrier", "barrier"), ("low", "low"),
                        ("high", "high"), ("barrier_sd", "barrier_std"), ("alpha", "alpha"),
                        ("ad_distance", "ad_distance"), ("ad_descriptor_out", "ad_descriptor_out"),
@@ -121,6 +144,10 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
                        ("energy_clipped", "energy_clipped")):
             frame.loc[idx, c] = p[key]
         frame.loc[idx, "energy_source"] = np.where(p["energy_given"], "given", "predicted")
+        if codes is not None:   # each row's own family floor, for the ranking's floor group
+            floors = model.joint["fit"].predict(np.full(idx.size, -1e6), codes[idx])
+            frame["row_floor"] = np.nan
+            frame.loc[idx, "row_floor"] = floors
         frame.loc[idx, "in_domain"] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
         if model.energy_kind == "free-energy":
             _rates(frame, idx, p, opts)

@@ -45,6 +45,7 @@ class ScreenSummary:
     output: str = ""
     top: list = field(default_factory=list)          # lowest barriers, in-domain rows first
     floor: float | None = None                       # the curve's downhill limit, when it has one
+    family_floors: dict = field(default_factory=dict)  # several families: each family's floor
     at_floor: int = 0                                # ok rows whose interval reaches the floor
     implausible_half_lives: int = 0                  # below a picosecond or above the age of the universe
     distances: list = field(default_factory=list)    # a sample of domain distances (for the report)
@@ -55,6 +56,7 @@ class ScreenSummary:
                 "energy_given": self.energy_given, "seconds": self.seconds, "output": self.output,
                 "rows_per_second": self.rows / self.seconds if self.seconds else None, "floor": self.floor,
                 "at_floor": self.at_floor, "implausible_half_lives": self.implausible_half_lives,
+                "family_floors": self.family_floors,
                 "temperature": self.temperature, "top": self.top, "notes": dict(self.notes)}
 
 
@@ -91,7 +93,8 @@ def _chunk_summary(pred, top: int, structure_columns) -> dict:
             "implausible": int(np.sum(ok & np.isfinite(t) & ((t < HALF_LIFE_BOUNDS[0]) | (t > HALF_LIFE_BOUNDS[1])))),
             "distances": d[np.isfinite(d)][:2000], "barrier": np.where(ok, pred["barrier"].to_numpy(dtype=float), np.nan),
             "low": pred["low"].to_numpy(dtype=float), "top": _merge_top([], pred, top, structure_columns) if top else [],
-            "notes": note_kinds(pred["notes"])}
+            "notes": note_kinds(pred["notes"]),
+            "floor": pred["row_floor"].to_numpy(dtype=float) if "row_floor" in pred.columns else None}
 
 
 def note_kinds(notes) -> Counter:
@@ -105,12 +108,15 @@ def floor_of(curve) -> float | None:
     return value if np.isfinite(value) and value > -1e5 else None
 
 
-def ranks(barrier: np.ndarray, low: np.ndarray, floor: float | None) -> tuple[np.ndarray, np.ndarray]:
+def ranks(barrier: np.ndarray, low: np.ndarray, floor) -> tuple[np.ndarray, np.ndarray]:
     """(1-based ranks by barrier, −1 where there is none; mask of the floor group). Rows whose
-    interval reaches the floor share rank 1 and the others follow them."""
+    interval reaches the floor (a number, or each row's own family floor) share rank 1 and the
+    others follow them."""
     rank = np.full(barrier.size, -1, dtype=np.int64)
     ok = np.isfinite(barrier)
-    grouped = ok & (low <= floor + 1e-9) if floor is not None else np.zeros(barrier.size, dtype=bool)
+    with np.errstate(invalid="ignore"):
+        grouped = ok & (low <= np.asarray(floor, dtype=float) + 1e-9) if floor is not None else \
+            np.zeros(barrier.size, dtype=bool)
     rank[grouped] = 1
     rest = np.flatnonzero(ok & ~grouped)
     order = rest[np.argsort(barrier[rest], kind="stable")]
@@ -133,6 +139,7 @@ def _merge_top(current: list, pred, k: int, structure_columns) -> list:
 def _tasks(library, in_fmt, model, opts, content, key, chunk_size, fmt, top, folder, local):
     needed = list(model.spec.columns) + ([model.spec.multiplicity] if model.spec.multiplicity else [])
     needed += [opts.energy_column] if opts.energy_column else []
+    needed += [model.family_column] if model.family_column else []
     for k, chunk in enumerate(iter_table(library, chunk_size=chunk_size, fmt=in_fmt)):
         require_columns(chunk, needed + ([opts.id_column] if opts.id_column else []), library)
         keep = [c for c in chunk.columns if c in set(needed) | {ROW, opts.id_column, id_column_of(chunk.columns),
@@ -177,7 +184,10 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
     if not model.has_structures and opts.energy_column is None:
         opts = replace(opts, energy_column=model.energy_column)
     summary = ScreenSummary(units=model.units, energy_kind=model.energy_kind, temperature=opts.temperature,
-                            output=str(output), floor=floor_of(model.curve))
+                            output=str(output), floor=floor_of(model.curve) if model.joint is None else None)
+    if model.joint is not None:
+        fit, names = model.joint["fit"], model.joint["names"]
+        summary.family_floors = dict(zip(names, fit.predict(np.full(len(names), -1e6), np.arange(len(names)))))
     output.parent.mkdir(parents=True, exist_ok=True)
     folder = partfiles.parts_folder(output)
     total = partfiles.count_rows(library, in_fmt)
@@ -185,7 +195,7 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
     if workers > 1 and total:  # about eight chunks a worker, so no worker waits on a long last one
         chunk_size = int(np.clip(-(-total // (8 * workers)), 1000, chunk_size))
     bar = _Progress(total, progress and sys.stderr.isatty())
-    barriers, lows, parts, header = [], [], [], None
+    barriers, lows, floors, parts, header = [], [], [], [], None
     try:
         local = getattr(executor, "local", True)
         tasks = _tasks(library, in_fmt, model, opts, content, key, chunk_size, out_fmt, top, folder, local)
@@ -198,12 +208,14 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
             header = frame.iloc[:0] if header is None else header
             barriers.append(piece["barrier"])
             lows.append(piece["low"])
+            floors.append(piece["floor"])
             _count(summary, piece, top)
             bar.update(piece["rows"])
         bar.close()
         b = np.concatenate(barriers) if barriers else np.zeros(0)
         lo = np.concatenate(lows) if lows else np.zeros(0)
-        rank, grouped = ranks(b, lo, summary.floor)
+        row_floor = (np.concatenate(floors) if floors and floors[0] is not None else summary.floor)
+        rank, grouped = ranks(b, lo, row_floor)
         summary.at_floor = int(grouped.sum())
         partfiles.assemble(parts, rank, output, out_fmt, header)
     finally:

@@ -18,11 +18,20 @@ from .predict import OK, ScreenOptions, predict_chunk
 
 
 def _already_computed(model, frame, keys) -> np.ndarray:
-    ids = set(map(str, model.training.get("ids", [])))
-    seen = np.isin(frame["id"].astype(str).to_numpy(), list(ids))
+    """Candidates that are training members: the same id, or the same structure (and, for a
+    several-families model, in the same family)."""
+    ids = [str(i) for i in model.training.get("ids", [])]
+    cand_ids = frame["id"].astype(str).tolist()
+    if model.family_column:   # the same substrate may be a member with one reagent and new with another
+        fams = [str(f) for f in model.training.get("families") or []]
+        ids = [f"{i}|family={f}" for i, f in zip(ids, fams)]
+        labels = frame[model.family_column].astype(str).str.strip().tolist()
+        cand_ids = [f"{i}|family={f}" for i, f in zip(cand_ids, labels)]
+        keys = None if keys is None else [f"{k}|family={f}" for k, f in zip(keys, labels)]
+    seen = np.isin(np.asarray(cand_ids, dtype=object), ids)
     known = set(model.training.get("keys") or [])
     if keys is not None and known:
-        seen |= np.array([k in known and k != "" for k in keys])
+        seen |= np.array([k in known and not k.startswith("|") and k != "" for k in keys])
     return seen
 
 

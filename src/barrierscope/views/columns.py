@@ -63,7 +63,8 @@ def screen_frame(pred: pd.DataFrame, unit: str, rounded: bool = True) -> pd.Data
     f = factor_to_kcal(unit)
     slug = unit_slug(unit)
     first = [c for c in pred.columns if c not in {s for _, s, _ in SCHEMA} and c not in ("low", "high",
-                                                                                         "relation_outside")]
+                                                                                         "relation_outside",
+                                                                                         "row_floor")]
     out = pred[first].copy()
     for name, source, kind in SCHEMA:
         v = pred[source]

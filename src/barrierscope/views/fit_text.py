@@ -99,7 +99,16 @@ def format_fit(record: dict, tiers=()) -> str:
               f"the model predicts with the {ROUTE_LABELS.get(record['primary_route'], record['primary_route'])} "
               f"route (members with a given reaction energy go straight to the curve)"]
     c = record["curve"]
-    lines.append("curve: " + ", ".join(f"{k} = {v:.4g}" for k, v in c["params"].items()))
+    if record.get("families"):
+        from .families_text import family_rows, validation_rows
+
+        lines += ["", f"families (column {record['family_column']}), fitted jointly with {', '.join(record['shared']) or 'nothing'}"
+                  f" shared; the regimes above use one curve for all families, the model each family's own:"]
+        lines += family_rows(record["families"])
+        lines += ["evidence for sharing: " + record["sharing_test"]["message"]]
+        lines += validation_rows(record["family_validation"])
+    else:
+        lines.append("curve: " + ", ".join(f"{k} = {v:.4g}" for k, v in c["params"].items()))
     lines += member_flag_lines(record)
     lines += [f"warning: {w}" for w in record.get("warnings", [])]
     lines += [f"note: {n}" for n in record.get("notes", [])]
@@ -119,5 +128,9 @@ def fit_json(record: dict, tiers=()) -> dict:
     if out["curve"].get("identifiability"):
         out["curve"]["identifiability"]["message"] = identifiability_text(out["curve"]["identifiability"], unit)
     out["verdict"] = verdict_text(out, unit, tiers)
+    if out.get("sharing_test"):
+        from .families_text import sharing_sentence
+
+        out["sharing_test"]["message"] = sharing_sentence(out["sharing_test"], out["shared"])
     out["caution"] = CAUTION
     return out

@@ -21,7 +21,7 @@ from .cautions import CAUTION
 from .curve_text import KINDS, identifiability_text
 from .fit_text import REGIME_LABELS, ROUTE_LABELS
 from .html import STYLE, esc, figure, num, table
-from .report_extra import hammett_section
+from .report_extra import families_section, hammett_section
 from .units import in_unit, to_unit
 from .verdict import verdict_text
 
@@ -161,6 +161,7 @@ def build_report(model, record: dict, comparison, source: str = "", screen: dict
              f"<h2>Verdict</h2><div class='verdict'>{esc(verdict_text(rec, unit, model.tiers))}</div>",
              _validation(rec, unit), _members(rec, unit, model), _curve(model, rec, comparison, unit, pick_list, figures_dir),
              hammett_section(record.get("hammett"), model.training["barrier"], unit, figures_dir),
+             families_section(record, model, unit, figures_dir),
              _diagnostics(model, rec, unit, screen, figures_dir), *extra_sections]
     notes = list(rec.get("warnings", [])) + list(rec.get("notes", []))
     if notes or rec.get("skipped"):

@@ -6,6 +6,8 @@ Each function returns HTML (user text escaped) for :func:`.report.build_report`'
 
 from __future__ import annotations
 
+import numpy as np
+
 from ..kinetics import format_duration
 from . import depict
 from .html import esc, num, table
@@ -21,8 +23,10 @@ def screen_section(summary: dict, unit: str, mode: str = "", structure_columns=(
              f"{s['out_of_domain']} of the ok rows outside the applicability domain; {s['energy_given']} used a given "
              f"reaction energy.</p>"]
     if s.get("at_floor"):
+        where = (", ".join(f"{esc(k)} {num(v)}" for k, v in s["family_floors"].items()) if s.get("family_floors")
+                 else num(s["floor"]))
         parts.append(f"<p><b>{s['at_floor']} rows have barrier intervals that reach the floor</b> "
-                     f"({num(s['floor'])} {esc(unit)}): the model cannot order them by barrier; they share rank 1.</p>")
+                     f"({where} {esc(unit)}): the model cannot order them by barrier; they share rank 1.</p>")
     if s.get("top"):
         rows = [[esc(str(r["id"])), depict.cell({c: r.get(c) for c in structure_columns}, mode), num(r["barrier"]),
                  f"{num(r['low'])} to {num(r['high'])}", num(r["alpha"], 2),
@@ -67,3 +71,40 @@ def hammett_section(hammett: dict | None, barrier_kcal, unit: str, figures_dir=N
             f" (L. P. Hammett, J. Am. Chem. Soc. 1937, 59, 96).</p>")
     return text + figure(hammett_png(hammett, barrier_kcal, unit), "Barrier and log k against Σσ with the "
                          "least-squares line.", "hammett", figures_dir)
+
+
+def families_section(record: dict, model, unit: str, figures_dir=None) -> str:
+    """Several families: the side-by-side table, the evidence for sharing, validation by
+    member and by family, and every family's curve; ``record`` in kcal/mol."""
+    from .families_text import DERIVED, ROUTES, sharing_sentence
+    from .figures import families_png
+    from .html import figure
+
+    if not record.get("families"):
+        return ""
+    r = in_unit({k: record[k] for k in ("families", "sharing_test", "family_validation")}, unit)
+    first = next(iter(r["families"].values()))
+    params, derived = list(first["params"]), [d for d in DERIVED if d in first["derived"]]
+    rows = []
+    for name, f in r["families"].items():
+        cells = [f"{num(f['params'][p], 4)} [{num(f['ci95'][p][0])}, {num(f['ci95'][p][1])}]" for p in params]
+        cells += [f"{num(f['derived'][d], 3)} [{num(f['derived_ci95'][d][0])}, {num(f['derived_ci95'][d][1])}]"
+                  for d in derived]
+        rows.append([esc(name), str(f["n"]), *cells])
+    ran = {k: v for k, v in r["family_validation"].items() if not v.get("skipped")}
+    heads = list(dict.fromkeys(h for v in ran.values() for h in v["routes"]))
+    val = [[esc(regime.replace("_", " "))] + [f"{num(v['routes'][h]['mae'])} · {num(v['routes'][h]['rmse'])}"
+                                              if h in v["routes"] else "—" for h in heads]
+           for regime, v in ran.items()]
+    names = record["family_names"]
+    codes = np.array([names.index(f) for f in model.training["families"]])
+    png = families_png(record, model.training["energy"], model.training["barrier"], codes, names, unit)
+    shared = ", ".join(record["shared"]) or "nothing"
+    return (f"<h2>Families</h2><p>The families in column <code>{esc(record['family_column'])}</code>, fitted "
+            f"jointly with {esc(shared)} shared (95 % intervals: profile-t for parameters, delta method for the "
+            f"rest; {esc(unit)}). The validation regimes above use one curve for every family; the model predicts "
+            f"through each family's own.</p>" +
+            table(["family", "n", *map(esc, params), *[esc(DERIVED[d]) for d in derived]], rows) +
+            f"<p>Evidence for sharing: {esc(sharing_sentence(r['sharing_test'], record['shared']))}.</p>" +
+            table(["validation (MAE · RMSE)", *[esc(ROUTES.get(h, h)) for h in heads]], val) +
+            figure(png, "Every family's members and its jointly fitted curve.", "families", figures_dir))

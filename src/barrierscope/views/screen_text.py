@@ -22,7 +22,11 @@ def format_screen(summary: dict, unit: str, energy_kind: str) -> str:
     note = rate_note(energy_kind)
     if note:
         lines.append(note)
-    if s.get("at_floor"):
+    if s.get("at_floor") and s.get("family_floors"):
+        floors = ", ".join(f"{k} {v:.3g}" for k, v in s["family_floors"].items())
+        lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach their family's floor ({floors} "
+                     f"{unit}): the model cannot order them by barrier; they share rank 1")
+    elif s.get("at_floor"):
         lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach the curve's floor "
                      f"({s['floor']:.3g} {unit}): the model cannot order them by barrier; they share rank 1")
     if s.get("implausible_half_lives"):

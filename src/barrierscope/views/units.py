@@ -34,7 +34,7 @@ ENERGY = frozenset({
     "low", "high", "mae_mean", "mae_std", "direct_mae_mean", "mean_predictor_mae", "energy_range",
     "barrier_range", "sigma", "span", "center", "barrier_at_center", "intrinsic_barrier", "uphill_excess",
     "misses", "margin", "floor", "gap", "below", "above", "energy_stage_importance", "barrier_per_sigma",
-    "barrier_per_sigma_ci95", "barrier_at_zero_sigma", "centre",
+    "barrier_per_sigma_ci95", "barrier_at_zero_sigma", "centre", "family_floors",
 }) | _REL_ENERGY
 ENERGY_SQUARED = frozenset({"delta_mse", "mse_ci95"})
 PLAIN = frozenset({
