@@ -58,9 +58,9 @@ def family_labels(df, column: str, source: str) -> tuple[object, list]:
     return labels.where(~empty, ""), problems
 
 
-def one_hot(labels, names) -> "pd.DataFrame":
+def one_hot(labels, names):
     """Family indicator columns ``family=<name>`` (1.0 or 0.0): with shared descriptor weights,
-    each family gets its own offset in the energy stage and the black box."""
+    each family gets its own offset in the energy stage and the black box. A DataFrame."""
     import pandas as pd
 
     labels = np.asarray([str(v) for v in labels], dtype=object)
