@@ -90,16 +90,17 @@ def _families(chunk, model, status, kind):
     return labels, codes
 
 
-def _rates(frame: pd.DataFrame, idx, p: dict, opts: ScreenOptions) -> None:
+def _rates(cols: dict, idx, p: dict, opts: ScreenOptions) -> None:
     t, kappa = opts.temperature, opts.transmission
-    frame.loc[idx, "rate_constant_per_s"] = eyring_rate(p["barrier"], t, kappa)
-    frame.loc[idx, "rate_low90_per_s"] = eyring_rate(p["high"], t, kappa)
-    frame.loc[idx, "rate_high90_per_s"] = eyring_rate(p["low"], t, kappa)
-    frame.loc[idx, "half_life_s"] = half_life(p["barrier"], t, kappa)
-    frame.loc[idx, "half_life_low90_s"] = half_life(p["low"], t, kappa)
-    frame.loc[idx, "half_life_high90_s"] = half_life(p["high"], t, kappa)
+    cols["rate_constant_per_s"][idx] = eyring_rate(p["barrier"], t, kappa)
+    cols["rate_low90_per_s"][idx] = eyring_rate(p["high"], t, kappa)
+    cols["rate_high90_per_s"][idx] = eyring_rate(p["low"], t, kappa)
+    cols["half_life_s"][idx] = half_life(p["barrier"], t, kappa)
+    cols["half_life_low90_s"][idx] = half_life(p["low"], t, kappa)
+    cols["half_life_high90_s"][idx] = half_life(p["high"], t, kappa)
 
 
+FLAGS = ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside", "off_manifold", "energy_clipped")
 NUMERIC = ("energy", "energy_sd", "barrier", "low", "high", "barrier_sd", "alpha", "rate_constant_per_s",
            "rate_low90_per_s", "rate_high90_per_s", "half_life_s", "half_life_low90_s", "half_life_high90_s",
            "ad_distance")
@@ -120,42 +121,40 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
     X = block = None
     if model.has_structures:
         X, notes, block = _descriptors(chunk, model, opts, engine, status, kind, labels)
-    frame = pd.DataFrame({"row": chunk[ROW].to_numpy(), "id": row_ids(chunk, opts.id_column, source).to_numpy()})
+    # Columns are filled as arrays and framed once (row-wise .loc writes cost more than the model).
+    cols: dict = {"row": chunk[ROW].to_numpy(), "id": row_ids(chunk, opts.id_column, source).to_numpy()}
     for c in [*model.spec.columns, *([opts.energy_column] if opts.energy_column else []),
               *([model.family_column] if model.family_column else [])]:
-        if c in chunk.columns and c not in frame.columns:
-            frame[c] = chunk[c].astype(str).str.replace("\n", " ", regex=False).to_numpy()
-    frame["status"], frame["error_kind"] = status, kind
+        if c in chunk.columns and c not in cols:
+            cols[c] = chunk[c].astype(str).str.replace("\n", " ", regex=False).to_numpy()
+    cols["status"], cols["error_kind"] = status, kind
     for c in NUMERIC:
-        frame[c] = np.nan
-    frame["energy_source"], frame["route"] = "", ""
-    for c in ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside", "off_manifold",
-              "energy_clipped"):
-        frame[c] = False
+        cols[c] = np.full(n, np.nan)
+    cols["energy_source"], cols["route"] = np.full(n, "", dtype=object), np.full(n, "", dtype=object)
+    for c in FLAGS:
+        cols[c] = np.zeros(n, dtype=bool)
     idx = np.flatnonzero(status == OK)
     if idx.size:
         p = model.predict(None if X is None else X.iloc[idx].reset_index(drop=True), given[idx],
                           None if codes is None else codes[idx])
         for c, key in (("energy", "energy"), ("energy_sd", "energy_std"), ("barrier", "barrier"), ("low", "low"),
                        ("high", "high"), ("barrier_sd", "barrier_std"), ("alpha", "alpha"),
-                       ("ad_distance", "ad_distance"), ("ad_descriptor_out", "ad_descriptor_out"),
-                       ("ad_energy_out", "ad_energy_out"), ("route", "route"),
-                       ("relation_outside", "relation_outside"), ("off_manifold", "off_manifold"),
-                       ("energy_clipped", "energy_clipped")):
-            frame.loc[idx, c] = p[key]
-        frame.loc[idx, "energy_source"] = np.where(p["energy_given"], "given", "predicted")
+                       ("ad_distance", "ad_distance"), ("route", "route"),
+                       *((f, f) for f in FLAGS if f != "in_domain")):
+            cols[c][idx] = p[key]
+        cols["energy_source"][idx] = np.where(p["energy_given"], "given", "predicted")
         if codes is not None:   # each row's own family floor, for the ranking's floor group
-            floors = model.joint["fit"].predict(np.full(idx.size, -1e6), codes[idx])
-            frame["row_floor"] = np.nan
-            frame.loc[idx, "row_floor"] = floors
-        frame.loc[idx, "in_domain"] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
+            cols["row_floor"] = np.full(n, np.nan)
+            cols["row_floor"][idx] = model.joint["fit"].predict(np.full(idx.size, -1e6), codes[idx])
+        cols["in_domain"][idx] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
         if model.energy_kind == "free-energy":
-            _rates(frame, idx, p, opts)
+            _rates(cols, idx, p, opts)
         for flag, text in ((p["relation_outside"], f"outside the {model.curve.relation_.label} relation's range of "
                                                     f"validity"),
                            (p["off_manifold"], GUARD_NOTES["off_manifold"]),
                            (p["energy_clipped"], GUARD_NOTES["energy_clipped"])):
             for j in idx[np.asarray(flag, dtype=bool)]:
                 notes[j] = "; ".join(x for x in (notes[j], text) if x)
-    frame["notes"] = notes
+    cols["notes"] = notes
+    frame = pd.DataFrame(cols)
     return ChunkPrediction(frame, X, block)

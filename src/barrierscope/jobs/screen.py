@@ -99,7 +99,9 @@ def _chunk_summary(pred, top: int, structure_columns) -> dict:
 
 def note_kinds(notes) -> Counter:
     """Rows per kind of note (a note's text up to its first colon: the kind, without the row's specifics)."""
-    return Counter(part.split(":")[0].strip() for text in notes if text for part in str(text).split("; "))
+    arr = np.asarray(notes, dtype=object)
+    arr = arr[arr != ""]                      # most rows carry no note: skip them in one pass
+    return Counter(part.split(":")[0].strip() for text in arr for part in str(text).split("; "))
 
 
 def floor_of(curve) -> float | None:

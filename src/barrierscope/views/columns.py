@@ -46,10 +46,19 @@ SCHEMA = (
 
 
 def _sig(values: np.ndarray, digits: int = 4) -> np.ndarray:
-    """Rounded to ``digits`` significant figures through the decimal text, so that the CSV shows
-    704100000 rather than 704100000.0000001."""
+    """Rounded to ``digits`` significant figures. Each magnitude is rounded by an exact power
+    of ten (multiplied by it, or divided by it: both exact below 10²²), so the result is the
+    double nearest the rounded decimal and the CSV shows 704100000, not 704100000.0000001."""
     v = np.asarray(values, dtype=float)
-    return np.array([float(f"{x:.{digits}g}") if np.isfinite(x) else x for x in v.tolist()], dtype=float)
+    out = v.copy()
+    ok = np.isfinite(v) & (v != 0)
+    decimals = digits - 1 - np.floor(np.log10(np.abs(v[ok]))).astype(int)
+    idx = np.flatnonzero(ok)
+    for d in np.unique(decimals):
+        at = idx[decimals == d]
+        p = 10.0 ** abs(int(d))
+        out[at] = np.round(v[at] * p) / p if d >= 0 else np.round(v[at] / p) * p
+    return out
 
 
 def _durations(seconds) -> np.ndarray:
