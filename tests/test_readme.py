@@ -27,3 +27,35 @@ def test_readme_opens_with_the_job():
     text = (ROOT / "README.md").read_text()
     first = " ".join(re.split(r"\n\s*\n", text.split("\n", 1)[1].strip(), maxsplit=1)[0].split())
     assert "reaction family" in first and "barrier" in first
+
+
+def test_every_option_the_readme_names_exists():
+    # A README that names an option the command line does not have sends a chemist astray.
+    import typer.main
+
+    from barrierscope.cli import app
+
+    known = set()
+    for cmd in typer.main.get_command(app).commands.values():
+        for p in cmd.params:
+            known.update(o for o in [*p.opts, *p.secondary_opts] if o.startswith("--"))
+    text = (ROOT / "README.md").read_text()
+    named = {o for line in text.splitlines() if "bench" not in line and "pytest" not in line
+             for o in re.findall(r"(?<![\w-])--[a-z][a-z0-9-]*", line)}
+    assert named - known - {"--version"} == set(), sorted(named - known)
+
+
+def test_the_python_example_runs(tmp_path, monkeypatch):
+    # The README's first Python block, run as written (paths into this checkout; files land
+    # in a temporary folder).
+    from matplotlib.figure import Figure
+
+    text = (ROOT / "README.md").read_text()
+    code = text.split("## From Python", 1)[1].split("```python", 1)[1].split("```", 1)[0]
+    code = code.replace('"datasets/demo/', f'"{ROOT}/datasets/demo/')
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.setenv("BARRIERSCOPE_CACHE_DIR", str(tmp_path / "cache"))
+    env = {"ax": Figure().subplots()}
+    exec(compile(code, "README.md", "exec"), env)
+    assert (tmp_path / "model.json").exists() and (tmp_path / "report.html").exists()
+    assert len(env["hits"]) == 3000 and env["same"].units == "kcal/mol"
