@@ -17,6 +17,7 @@ order, sorts first is taken, so the result does not depend on how the SMILES was
 from __future__ import annotations
 
 import re
+from itertools import accumulate
 
 from rdkit import Chem
 
@@ -231,9 +232,24 @@ class _TextFragments:
     RDKit removes, several components) fall back to cutting the graph.
     """
 
-    def __init__(self, tokens: list[str], atom_token: list[int]):
+    def __init__(self, text: str, tokens: list[str], atom_token: list[int]):
+        self.text = text
         self.tokens = tokens
         self.atom_token = atom_token
+        # Character offset of every token (and of the end), so fragments are slices of the text.
+        self.offset = [0, *accumulate(map(len, tokens))]
+        # For every token, the index of the ")" closing the innermost branch open there (or the
+        # end): one pass instead of a scan per fragment.
+        close = [len(tokens)] * len(tokens)
+        stack: list[int] = []
+        owner = [-1] * len(tokens)
+        for i, t in enumerate(tokens):
+            owner[i] = stack[-1] if stack else -1
+            if t == "(":
+                stack.append(i)
+            elif t == ")" and stack:
+                close[stack.pop()] = i
+        self.branch_end = [close[o] if o >= 0 else len(tokens) for o in owner]
 
     @classmethod
     def read(cls, text: str, mol: Chem.Mol) -> "_TextFragments | None":
@@ -241,33 +257,16 @@ class _TextFragments:
         atom_token = [i for i, t in enumerate(tokens) if t in _ORGANIC or t[0] == "["]
         if "." in tokens or len(atom_token) != mol.GetNumAtoms():
             return None
-        return cls(tokens, atom_token)
-
-    def _branch_end(self, start: int) -> int:
-        depth = 0
-        toks = self.tokens
-        for i in range(start, len(toks)):
-            t = toks[i]
-            if t == "(":
-                depth += 1
-            elif t == ")":
-                if depth == 0:
-                    return i
-                depth -= 1
-        return len(toks)
+        return cls(text, tokens, atom_token)
 
     def raw(self, a: int, s: int) -> str:
-        toks = self.tokens
+        toks, off, text = self.tokens, self.offset, self.text
         if s > a:
             start = self.atom_token[s]
-            bond = toks[start - 1] if start > 0 and toks[start - 1] in _BONDS else ""
-            return "*" + bond + "".join(toks[start:self._branch_end(start)])
+            first = start - 1 if start > 0 and toks[start - 1] in _BONDS else start
+            return "*" + text[off[first]:off[self.branch_end[start]]]
         start = self.atom_token[a]
-        lead = start
-        while lead > 0 and toks[lead - 1] in _BONDS:
-            lead -= 1
-        bond = "".join(toks[lead:start])
-        return "".join(toks[:lead]) + bond + "*" + "".join(toks[self._branch_end(start):])
+        return text[:off[start]] + "*" + text[off[self.branch_end[start]]:]
 
 
 def _fragment_key(mol: Chem.Mol, anchor: int, atoms: set[int]) -> str:
