@@ -21,7 +21,8 @@ def cycloaddition():
     """The [3+2] cycloaddition set (Stuyver, Jorner, Coley, Sci. Data 2023, 10, 66) with roles."""
     path = shared_cycloaddition_path()
     if not path.exists():
-        pytest.skip(f"open dataset not found at {path} (it lives in ../shared/datasets, outside the repo)")
+        pytest.skip(f"open dataset not found at {path} (it lives in ../shared/datasets, outside the repo; "
+                    f"point BARRIERSCOPE_CYCLOADDITION at full_dataset.csv: see the README)")
     from barrierscope.io.opendata import load_cycloaddition
 
     return load_cycloaddition(path)
