@@ -72,16 +72,22 @@ class JointLayout:
         return u
 
 
+def members_by_family(fam, n_families: int):
+    """(family code, positions of its members) for every family that has members."""
+    fam = np.asarray(fam, dtype=int)
+    for k in range(n_families):
+        idx = np.flatnonzero(fam == k)
+        if idx.size:
+            yield k, idx
+
+
 def residuals_and_jacobian(rel: Relation, layout: JointLayout, x, y, fam, u):
     """(residuals (n,), Jacobian (n, P)) of the joint model at u."""
     theta = layout.unpack(u)
     cols = layout.columns()
     r = np.empty(x.size)
     jac = np.zeros((x.size, layout.size))
-    for k in range(layout.n_families):
-        idx = np.flatnonzero(fam == k)
-        if idx.size == 0:
-            continue
+    for k, idx in members_by_family(fam, layout.n_families):
         r[idx] = rel.barrier(x[idx], theta[k]) - y[idx]
         jac[np.ix_(idx, cols[k])] += rel.jacobian(x[idx], theta[k])   # shared columns add up over families
     return r, jac
@@ -120,29 +126,29 @@ class JointFit:
     def predict(self, energy, fam, return_std: bool = False, energy_std=None):
         """Barriers (kcal/mol) of members of families ``fam`` (codes) at ``energy``; with
         ``return_std`` the predictive σ (parameters, residual scatter, and α·σ_E)."""
-        e, fam = np.asarray(energy, dtype=float), np.asarray(fam, dtype=int)
+        e = np.asarray(energy, dtype=float)
         out, var = np.full(e.size, np.nan), np.full(e.size, np.nan)
         es = np.zeros(e.size) if energy_std is None else np.asarray(energy_std, dtype=float)
-        for k in range(self.layout.n_families):
-            idx = np.flatnonzero(fam == k)
-            if idx.size:
-                th = self.theta[k]
-                out[idx] = self.relation.barrier(e[idx], th)
-                jac = self.relation.jacobian(e[idx], th)
-                var[idx] = (np.einsum("np,pq,nq->n", jac, self.family_cov(k), jac) + self.sigma ** 2 +
-                            (self.relation.slope(e[idx], th) * es[idx]) ** 2)
+        for k, idx in members_by_family(fam, self.layout.n_families):
+            th = self.theta[k]
+            out[idx] = self.relation.barrier(e[idx], th)
+            jac = self.relation.jacobian(e[idx], th)
+            var[idx] = (np.einsum("np,pq,nq->n", jac, self.family_cov(k), jac) + self.sigma ** 2 +
+                        (self.relation.slope(e[idx], th) * es[idx]) ** 2)
         return (out, np.sqrt(var)) if return_std else out
-
 
     def slope(self, energy, fam) -> np.ndarray:
         """Local Leffler α of each member's family curve at ``energy``."""
-        e, fam = np.asarray(energy, dtype=float), np.asarray(fam, dtype=int)
+        e = np.asarray(energy, dtype=float)
         out = np.full(e.size, np.nan)
-        for k in range(self.layout.n_families):
-            idx = np.flatnonzero(fam == k)
-            if idx.size:
-                out[idx] = self.relation.slope(e[idx], self.theta[k])
+        for k, idx in members_by_family(fam, self.layout.n_families):
+            out[idx] = self.relation.slope(e[idx], self.theta[k])
         return out
+
+    def floors(self) -> np.ndarray:
+        """Each family's barrier far downhill (kcal/mol); NaN for a relation without a floor."""
+        far = self.predict(np.full(self.layout.n_families, -1e6), np.arange(self.layout.n_families))
+        return np.where(far > -1e5, far, np.nan)
 
     def as_dict(self) -> dict:
         return {"relation": self.relation.name, "param_names": list(self.layout.param_names),

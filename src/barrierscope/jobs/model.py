@@ -53,6 +53,10 @@ class FamilyModel:
     family_column: str | None = None
     joint: dict | None = None
 
+    def family_floors(self) -> np.ndarray:
+        """Each family's floor (kcal/mol), in code order (several-families models)."""
+        return self.joint["fit"].floors()
+
     def family_codes(self, labels) -> np.ndarray:
         """Each label's family code; −1 for a family the model does not know."""
         index = {n: k for k, n in enumerate(self.joint["names"])}

@@ -145,7 +145,7 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
         cols["energy_source"][idx] = np.where(p["energy_given"], "given", "predicted")
         if codes is not None:   # each row's own family floor, for the ranking's floor group
             cols["row_floor"] = np.full(n, np.nan)
-            cols["row_floor"][idx] = model.joint["fit"].predict(np.full(idx.size, -1e6), codes[idx])
+            cols["row_floor"][idx] = model.family_floors()[codes[idx]]
         cols["in_domain"][idx] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
         if model.energy_kind == "free-energy":
             _rates(cols, idx, p, opts)

@@ -188,8 +188,7 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
     summary = ScreenSummary(units=model.units, energy_kind=model.energy_kind, temperature=opts.temperature,
                             output=str(output), floor=floor_of(model.curve) if model.joint is None else None)
     if model.joint is not None:
-        fit, names = model.joint["fit"], model.joint["names"]
-        summary.family_floors = dict(zip(names, fit.predict(np.full(len(names), -1e6), np.arange(len(names)))))
+        summary.family_floors = dict(zip(model.joint["names"], model.family_floors().tolist()))
     output.parent.mkdir(parents=True, exist_ok=True)
     folder = partfiles.parts_folder(output)
     total = partfiles.count_rows(library, in_fmt)
