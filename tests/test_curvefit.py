@@ -3,12 +3,14 @@
 Synthetic families here are invented test data with a known truth, labelled as such.
 """
 
+import math
+
 import numpy as np
 import pytest
 
+from barrierscope.curves.stats import aicc as aicc_only, information_criteria
 from barrierscope.curves.compare import (
     compare_relations,
-    information_criteria,
     loo_predictions,
 )
 from barrierscope.curves.fit import FitError, fit_relation
@@ -116,9 +118,12 @@ def test_information_criteria_formula():
     # AICc = n ln(RSS/n) + 2k + 2k(k+1)/(n−k−1), k = p + 1 (C. M. Hurvich, C.-L. Tsai, Biometrika 1989);
     # BIC = n ln(RSS/n) + k ln n (G. Schwarz 1978). Worked by hand for RSS = 50, n = 20, p = 3 (k = 4):
     # 20 ln 2.5 = 18.325815; AICc = 18.325815 + 8 + 40/15 = 28.992481; BIC = 18.325815 + 4 ln 20 = 30.308744.
-    aicc, bic = information_criteria(rss=50.0, n=20, n_params=3)
+    aicc, bic = information_criteria(rss=50.0, n=20, k=4)
     assert aicc == pytest.approx(28.99248130414977, rel=1e-12)
     assert bic == pytest.approx(30.308743731699067, rel=1e-12)
+    # The joint fit's criterion is the same function: an exact fit (RSS = 0) has no likelihood
+    # maximum and no criterion, whoever asks.
+    assert math.isnan(information_criteria(rss=0.0, n=20, k=4)[0]) and math.isnan(aicc_only(0.0, 20, 4))
 
 
 def test_narrow_span_is_called_not_identifiable_with_the_tangent():

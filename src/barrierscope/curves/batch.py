@@ -26,6 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..relations.base import Relation
+from .stats import at_bound
 
 #: Elements of the (problems × members × parameters) Jacobian held at once (memory bound).
 _BLOCK = 4_000_000
@@ -138,12 +139,6 @@ def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
     return theta, cost, converged
 
 
-def _at_bound(theta, lo, hi) -> np.ndarray:
-    span = np.where(np.isfinite(hi - lo), hi - lo, 1.0 + np.abs(theta))
-    return ((np.isfinite(lo) & (theta - lo <= 1e-6 * span)) |
-            (np.isfinite(hi) & (hi - theta <= 1e-6 * span)))
-
-
 def refit_weighted(relation: Relation, energy, barrier, weights, theta0, *, bounds=None, max_iter: int = 200,
                    tol: float = 1e-10) -> np.ndarray:
     """Least-squares parameters (m, p) for each row of ``weights`` (m, n), warm-started at
@@ -178,7 +173,7 @@ def fit_subsets(relation: Relation, energy, barrier, weights, *, max_iter: int =
     pick = np.argmin(cost.reshape(m, s), axis=1) + np.arange(m) * s
     theta_best = theta[pick]
     return SubsetFits(theta=theta_best, cost=cost[pick], converged=conv[pick],
-                      at_bound=_at_bound(theta_best, lo, hi))
+                      at_bound=at_bound(theta_best, lo, hi))
 
 
 def loo_weights(n: int) -> np.ndarray:

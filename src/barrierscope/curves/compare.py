@@ -17,6 +17,7 @@ import numpy as np
 from ..relations import RELATIONS, get_relation
 from .batch import fit_subsets, loo_weights
 from .fit import FitError, RelationFit, check_pairs, fit_relation
+from .stats import information_criteria
 
 BEST_BY = "loo_rmse"
 
@@ -43,17 +44,6 @@ class Comparison:
     n: int
     scores: dict[str, RelationScore] = field(default_factory=dict)
     best: str | None = None
-
-
-def information_criteria(rss: float, n: int, n_params: int) -> tuple[float, float]:
-    """(AICc, BIC) of a least-squares fit with ``n_params`` curve parameters."""
-    k = n_params + 1
-    if n <= k + 1 or rss <= 0:
-        return float("nan"), float("nan")
-    base = n * np.log(rss / n)
-    aicc = base + 2 * k + 2 * k * (k + 1) / (n - k - 1)
-    bic = base + k * np.log(n)
-    return float(aicc), float(bic)
 
 
 def loo_predictions(fit: RelationFit, energy, barrier) -> np.ndarray:
@@ -87,7 +77,7 @@ def score_relation(name: str, energy, barrier, loss: str = "linear", with_loo: b
     r = fit.residuals
     score.rmse = float(np.sqrt(np.mean(r * r)))
     score.mae = float(np.mean(np.abs(r)))
-    score.aicc, score.bic = information_criteria(fit.rss, fit.n, fit.n_params)
+    score.aicc, score.bic = information_criteria(fit.rss, fit.n, fit.n_params + 1)  # + the residual variance
     score.n_outside_validity = int(np.count_nonzero(relation.outside_validity(x, fit.params)))
     if with_loo:
         pred = loo_predictions(fit, x, y)

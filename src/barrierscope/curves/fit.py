@@ -19,6 +19,7 @@ from scipy import optimize
 
 from ..relations.base import Relation
 from .batch import interior, lm_solve
+from .stats import at_bound
 
 LOSSES = ("linear", "soft_l1", "huber", "cauchy")
 #: The losses as barrierscope's options name them → scipy's names.
@@ -159,8 +160,6 @@ def fit_relation(relation: Relation, energy, barrier, *, loss: str = "linear", f
     r = relation.barrier(x, theta) - y
     dof = x.size - p
     cov = covariance(relation.jacobian(x, theta), _robust_sigma2(r, dof, loss))
-    span = np.where(np.isfinite(hi - lo), hi - lo, 1.0 + np.abs(theta))
-    near = (np.isfinite(lo) & (theta - lo <= 1e-6 * span)) | (np.isfinite(hi) & (hi - theta <= 1e-6 * span))
-    at_bound = tuple(n for n, b in zip(relation.param_names, near) if b)
+    bounded = tuple(n for n, b in zip(relation.param_names, at_bound(theta, lo, hi)) if b)
     return RelationFit(relation=relation, params=theta, cov=cov, rss=float(r @ r), n=int(x.size), loss=loss,
-                       success=success, at_bound=at_bound, residuals=r)
+                       success=success, at_bound=bounded, residuals=r)

@@ -80,11 +80,12 @@ class _Profile:
         return float(2.0 * res.cost), self._full(value, res.x)
 
 
-def profile_end(prof, fit, g_cut, u_hat, edge, step, direction, fwd, inv):
+def profile_end(prof, start, g_cut, u_hat: float, edge: float, *, step: float, direction: float, inv):
     """One end of the interval in the (possibly log) search coordinate: (value, open?).
     ``prof.rss(value, start)`` gives the minimised RSS at the profiled value and the full
-    parameter vector there; ``fit.params`` is the full vector at the optimum."""
-    theta_prev, inside_u = fit.params.copy(), u_hat
+    parameter vector there; ``start`` is the full vector at the optimum; ``inv`` maps the
+    search coordinate back to the parameter."""
+    theta_prev, inside_u = np.array(start, dtype=float), u_hat
     found = None
     while True:
         u = inside_u + direction * step
@@ -113,6 +114,36 @@ def profile_end(prof, fit, g_cut, u_hat, edge, step, direction, fwd, inv):
     return float(inv(root)), False
 
 
+def profile_cut(rss: float, dof: int, level: float):
+    """The profile-t criterion g(S) = (S − Ŝ)/s² − t²_dof (Bates & Watts 1988, §6.1): an
+    interval end is where g crosses zero. None when s² = Ŝ/dof is not positive and finite."""
+    s2 = rss / dof if dof > 0 else float("nan")
+    if not np.isfinite(s2) or s2 <= 0:
+        return None
+    tcrit2 = t_quantile(level, dof) ** 2
+    return lambda s: (s - rss) / s2 - tcrit2
+
+
+def _same(v):
+    return v
+
+
+def profile_interval(prof, start, g_cut, *, value: float, se: float, lo: float, hi: float,
+                     log: bool = False) -> ProfileInterval:
+    """Both ends of one parameter's profile interval, searched from its estimate ``value``
+    outward in steps starting at its standard error ``se`` (in log space with ``log`` and a
+    positive lower bound), up to the search bounds ``lo``, ``hi``."""
+    use_log = log and lo > 0
+    fwd, inv = (np.log, np.exp) if use_log else (_same, _same)
+    u_hat = fwd(value)
+    step = se / (value if use_log else 1.0)
+    step = float(np.clip(step if np.isfinite(step) and step > 0 else 0.1, 1e-4 * (1 + abs(u_hat)), None))
+    step = min(step, 1.0) if use_log else step
+    low, low_open = profile_end(prof, start, g_cut, u_hat, fwd(lo), step=step, direction=-1.0, inv=inv)
+    high, high_open = profile_end(prof, start, g_cut, u_hat, fwd(hi), step=step, direction=1.0, inv=inv)
+    return ProfileInterval(low, high, low_open, high_open)
+
+
 def profile_intervals(fit: RelationFit, energy, barrier, level: float = 0.95,
                       log_scale: tuple[str, ...] = ("width",)) -> dict[str, ProfileInterval]:
     """Profile-t intervals for every parameter of a least-squares fit.
@@ -125,28 +156,12 @@ def profile_intervals(fit: RelationFit, energy, barrier, level: float = 0.95,
     relation = fit.relation
     x, y = check_pairs(energy, barrier, min_n=relation.n_params + 1)
     lo, hi = relation.bounds(x, y)
-    s2 = fit.rss / fit.dof if fit.dof > 0 else float("nan")
-    out: dict[str, ProfileInterval] = {}
-    if not np.isfinite(s2) or s2 <= 0:
+    g_cut = profile_cut(fit.rss, fit.dof, level)
+    if g_cut is None:
         return {name: ProfileInterval(float(v), float(v), True, True) for name, v in zip(relation.param_names, fit.params)}
-    tcrit2 = t_quantile(level, fit.dof) ** 2
-
-    def g_cut(rss):
-        return (rss - fit.rss) / s2 - tcrit2
-
-    for j, name in enumerate(relation.param_names):
-        use_log = name in log_scale and lo[j] > 0
-        fwd = np.log if use_log else (lambda v: v)
-        inv = np.exp if use_log else (lambda u: u)
-        u_hat = fwd(fit.params[j])
-        se = fit.stderr[j] / (fit.params[j] if use_log else 1.0)
-        step0 = float(np.clip(se if np.isfinite(se) and se > 0 else 0.1, 1e-4 * (1 + abs(u_hat)), None))
-        step0 = min(step0, 1.0) if use_log else step0
-        prof = _Profile(fit, x, y, j, lo, hi)
-        low, low_open = profile_end(prof, fit, g_cut, u_hat, fwd(lo[j]), step0, -1.0, fwd, inv)
-        high, high_open = profile_end(prof, fit, g_cut, u_hat, fwd(hi[j]), step0, 1.0, fwd, inv)
-        out[name] = ProfileInterval(low, high, low_open, high_open)
-    return out
+    return {name: profile_interval(_Profile(fit, x, y, j, lo, hi), fit.params, g_cut, value=fit.params[j],
+                                   se=fit.stderr[j], lo=lo[j], hi=hi[j], log=name in log_scale)
+            for j, name in enumerate(relation.param_names)}
 
 
 def bootstrap_intervals(fit: RelationFit, energy, barrier, level: float = 0.95, n_boot: int = 1000,

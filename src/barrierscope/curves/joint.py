@@ -26,6 +26,7 @@ from scipy import optimize, special
 from ..relations.base import Relation
 from .batch import interior
 from .fit import FitError, covariance, fit_relation
+from .stats import aicc, at_bound, predictive_variance
 
 
 @dataclass(frozen=True)
@@ -132,9 +133,8 @@ class JointFit:
         for k, idx in members_by_family(fam, self.layout.n_families):
             th = self.theta[k]
             out[idx] = self.relation.barrier(e[idx], th)
-            jac = self.relation.jacobian(e[idx], th)
-            var[idx] = (np.einsum("np,pq,nq->n", jac, self.family_cov(k), jac) + self.sigma ** 2 +
-                        (self.relation.slope(e[idx], th) * es[idx]) ** 2)
+            var[idx] = predictive_variance(self.relation.jacobian(e[idx], th), self.family_cov(k), self.sigma,
+                                           self.relation.slope(e[idx], th), es[idx])
         return (out, np.sqrt(var)) if return_std else out
 
     def slope(self, energy, fam) -> np.ndarray:
@@ -242,12 +242,10 @@ def fit_joint(rel: Relation, energy, barrier, fam, n_families: int, shared=("wid
     r, jac = residuals_and_jacobian(rel, layout, x, y, fam, u)
     dof = x.size - layout.size
     cov = covariance(jac, float(r @ r) / dof)
-    span = np.where(np.isfinite(hi - lo), hi - lo, 1.0 + np.abs(u))
-    near = (u - lo <= 1e-6 * span) | (hi - u <= 1e-6 * span)
-    names = [f"{rel.param_names[j]}" for j in range(rel.n_params)]
-    at_bound = tuple(sorted({names[j] for k in range(n_families) for j in range(rel.n_params)
-                             if near[layout.index(k, j)]}))
-    return JointFit(rel, layout, u, cov, float(r @ r), int(x.size), counts, at_bound, (lo, hi))
+    near = at_bound(u, lo, hi)
+    bounded = tuple(sorted({rel.param_names[j] for k in range(n_families) for j in range(rel.n_params)
+                            if near[layout.index(k, j)]}))
+    return JointFit(rel, layout, u, cov, float(r @ r), int(x.size), counts, bounded, (lo, hi))
 
 
 def _starts(rel, layout, x, y, fam, separate) -> list[np.ndarray]:
@@ -256,13 +254,6 @@ def _starts(rel, layout, x, y, fam, separate) -> list[np.ndarray]:
     separate = separate if separate is not None else separate_fits(rel, x, y, fam, layout.n_families)
     own = np.array([f.params if f is not None else pooled for f in separate])
     return [layout.pack(own), layout.pack(np.tile(pooled, (layout.n_families, 1)))]
-
-
-def aicc(rss: float, n: int, k: int) -> float:
-    """AICc of a least-squares fit with k parameters (the residual variance included)."""
-    if n - k - 1 <= 0:
-        return float("nan")
-    return float(n * np.log(rss / n) + 2 * k + 2 * k * (k + 1) / (n - k - 1))
 
 
 def sharing_test(joint: JointFit, separate: list) -> dict:

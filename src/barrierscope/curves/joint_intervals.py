@@ -11,11 +11,9 @@ block of the joint covariance (numerical gradient), stated as such.
 
 from __future__ import annotations
 
-from types import SimpleNamespace
-
 import numpy as np
 
-from .intervals import ProfileInterval, profile_end, t_quantile
+from .intervals import ProfileInterval, profile_cut, profile_interval, t_quantile
 from .joint import JointFit, _solve
 
 
@@ -35,32 +33,15 @@ def joint_profile_intervals(fit: JointFit, energy, barrier, fam, level: float = 
     """Joint position → its profile-t interval (open ends marked)."""
     x, y, fam = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float), np.asarray(fam, dtype=int)
     lo, hi = fit.bounds
-    s2 = fit.rss / fit.dof if fit.dof > 0 else float("nan")
-    if not np.isfinite(s2) or s2 <= 0:
+    g_cut = profile_cut(fit.rss, fit.dof, level)
+    if g_cut is None:
         return {i: ProfileInterval(float(v), float(v), True, True) for i, v in enumerate(fit.u)}
-    tcrit2 = t_quantile(level, fit.dof) ** 2
-
-    def g_cut(rss):
-        return (rss - fit.rss) / s2 - tcrit2
-
     names = fit.relation.param_names
     owner = {fit.layout.index(k, j): names[j] for k in range(fit.layout.n_families) for j in range(len(names))}
     se = np.sqrt(np.clip(np.diag(fit.cov), 0.0, None))
-    out = {}
-    for i in range(fit.layout.size):
-        use_log = owner[i] in log_scale and lo[i] > 0
-        fwd = np.log if use_log else (lambda v: v)
-        inv = np.exp if use_log else (lambda u: u)
-        u_hat = fwd(fit.u[i])
-        step = se[i] / (fit.u[i] if use_log else 1.0)
-        step = float(np.clip(step if np.isfinite(step) and step > 0 else 0.1, 1e-4 * (1 + abs(u_hat)), None))
-        step = min(step, 1.0) if use_log else step
-        prof = _JointProfile(fit, x, y, fam, i)
-        anchor = SimpleNamespace(params=fit.u)
-        low, low_open = profile_end(prof, anchor, g_cut, u_hat, fwd(lo[i]), step, -1.0, fwd, inv)
-        high, high_open = profile_end(prof, anchor, g_cut, u_hat, fwd(hi[i]), step, 1.0, fwd, inv)
-        out[i] = ProfileInterval(low, high, low_open, high_open)
-    return out
+    return {i: profile_interval(_JointProfile(fit, x, y, fam, i), fit.u, g_cut, value=fit.u[i], se=se[i], lo=lo[i],
+                                hi=hi[i], log=owner[i] in log_scale)
+            for i in range(fit.layout.size)}
 
 
 def _derived(rel, theta, centre: float) -> dict[str, float]:

@@ -16,6 +16,7 @@ from ..relations import DEFAULT_RELATION, get_relation
 from .compare import compare_relations
 from .fit import check_pairs, fit_relation, loss_name
 from .identifiability import Identifiability, assess_identifiability
+from .stats import predictive_variance
 from .intervals import bootstrap_intervals, correlation_matrix, profile_intervals, t_quantile, wald_intervals
 
 INTERVAL_METHODS = ("profile", "wald", "bootstrap", "none")
@@ -140,14 +141,9 @@ class CurveRegressor(RegressorProtocol):
     def barrier_variance(self, X, energy_std=None) -> np.ndarray:
         """Predictive variance (kcal/mol)²: (α·σ_E)² + J·Cov·Jᵀ + σ²_residual."""
         x = energy_column(X)
-        jac = self.relation_.jacobian(x, self.params_)
-        var = np.einsum("np,pq,nq->n", jac, self.cov_, jac)
-        sigma = self.sigma_ if np.isfinite(self.sigma_) else 0.0
-        var = var + sigma ** 2
-        if energy_std is not None:
-            s = np.nan_to_num(np.broadcast_to(np.asarray(energy_std, dtype=float), x.shape), nan=0.0)
-            var = var + (self.relation_.slope(x, self.params_) * s) ** 2
-        return var
+        s = None if energy_std is None else np.broadcast_to(np.asarray(energy_std, dtype=float), x.shape)
+        return predictive_variance(self.relation_.jacobian(x, self.params_), self.cov_, self.sigma_,
+                                   self.relation_.slope(x, self.params_), s)
 
     def interval_quantile(self, level: float) -> float:
         """Two-sided t quantile (dof of the curve fit) for a predictive interval."""

@@ -123,6 +123,29 @@ def parse_tiers(text: str | None) -> tuple[str, ...]:
     return names
 
 
+#: Descriptor payloads an engine keeps in memory (the SQLite cache holds every one; this bound
+#: keeps a million-row screen's process from growing with its distinct substituents).
+MEMO_SIZE = 200_000
+
+
+class BoundedMemo:
+    """A dict that forgets its oldest entries beyond ``size`` (first in, first out)."""
+
+    def __init__(self, size: int):
+        self.size, self._data = int(size), {}
+
+    def get(self, key):
+        return self._data.get(key)
+
+    def put(self, key, value) -> None:
+        self._data[key] = value
+        while len(self._data) > self.size:
+            del self._data[next(iter(self._data))]
+
+    def __len__(self) -> int:
+        return len(self._data)
+
+
 class DescriptorError(RuntimeError):
     """A tier could not describe one unit (a substituent or a molecule)."""
 
@@ -152,13 +175,44 @@ class DescriptorEngine:
         self.executor = executor
         #: Level and solvent of GFN2-xTB reaction energies (the xtb tier with reactions).
         self.xtb_settings = xtb_settings if xtb_settings is not None else XtbSettings(level="sp", solvent=None)
-        self._memo: dict[tuple[str, str, str], dict] = {}
+        self._memo = BoundedMemo(MEMO_SIZE)
         self._contexts: dict[tuple[str, str], object] = {}
         self.computed = 0
         self.hits = 0
 
     def columns(self, kind: str, exclude=()) -> list[str]:
         return [c for t in self.tiers if t not in exclude for c in TIERS[t].columns(kind)]
+
+    def _through_cache(self, scope: str, version: str, keys: list[str], compute) -> dict[str, dict]:
+        """Payloads of ``keys``: from memory, else the SQLite cache, else ``compute(todo)`` (a
+        list of payloads in the order of ``todo``), which are then stored in both. A payload
+        marked ``transient`` (an error caused by this machine, such as a missing package) is
+        kept in memory for the run but never stored: it must not outlive the fix."""
+        out: dict[str, dict] = {}
+        missing = []
+        for k in keys:
+            hit = self._memo.get((scope, version, k))
+            if hit is not None:
+                out[k] = hit
+            else:
+                missing.append(k)
+        stored = self.cache.get_many(scope, version, missing) if missing else {}
+        out.update(stored)
+        todo = [k for k in missing if k not in stored]
+        self.hits += len(keys) - len(todo)
+        fresh = dict(zip(todo, compute(todo))) if todo else {}
+        self.computed += len(todo)
+        if fresh:
+            self.cache.put_many(scope, version, {k: v for k, v in fresh.items() if not v.get("transient")})
+        out.update(fresh)
+        for k in (*stored, *fresh):
+            self._memo.put((scope, version, k), out[k])
+        return out
+
+    def _map(self, function, args: list, parallel: bool) -> list:
+        if parallel and self.executor is not None and len(args) > 1:
+            return list(self.executor.map(function, args))
+        return [function(a) for a in args]
 
     def species_energies(self, species) -> tuple[dict[str, float], dict[str, str]]:
         """GFN2-xTB energies (kcal/mol) of distinct species, through the cache and the executor.
@@ -167,76 +221,23 @@ class DescriptorEngine:
         (energy by species key, error by species key).
         """
         settings = self.xtb_settings
-        scope, version = "xtb:species", settings.cache_version()
         unique = {f"{s.smiles}|{s.multiplicity}": s for s in species}
-        keys = list(unique)
-        found: dict[str, dict] = {}
-        todo = []
-        for k in keys:
-            hit = self._memo.get((scope, version, k))
-            if hit is not None:
-                found[k] = hit
-            else:
-                todo.append(k)
-        if todo:
-            stored = self.cache.get_many(scope, version, todo)
-            found.update(stored)
-            for k, v in stored.items():
-                self._memo[(scope, version, k)] = v
-            todo = [k for k in todo if k not in stored]
-        self.hits += len(keys) - len(todo)
-        if todo:
-            args = [(unique[k].smiles, unique[k].multiplicity, settings) for k in todo]
-            if self.executor is not None and len(todo) > 1:
-                results = list(self.executor.map(_species_payload, args))
-            else:
-                results = [_species_payload(a) for a in args]
-            fresh = dict(zip(todo, results))
-            self.computed += len(todo)
-            self.cache.put_many(scope, version, {k: v for k, v in fresh.items() if not v.get("transient")})
-            for k, v in fresh.items():
-                found[k] = v
-                self._memo[(scope, version, k)] = v
+        found = self._through_cache(
+            "xtb:species", settings.cache_version(), list(unique),
+            lambda todo: self._map(_species_payload, [(unique[k].smiles, unique[k].multiplicity, settings)
+                                                      for k in todo], parallel=True))
         energies = {k: v["values"]["energy"] for k, v in found.items() if not v.get("error")}
         errors = {k: v["error"] for k, v in found.items() if v.get("error")}
         return energies, errors
 
     def _payloads(self, tier: Tier, kind: str, keys: list[str]) -> dict[str, dict]:
-        scope = f"{tier.name}:{kind}"
-        out: dict[str, dict] = {}
-        missing = []
-        for k in keys:
-            hit = self._memo.get((scope, tier.version, k))
-            if hit is not None:
-                out[k] = hit
-            else:
-                missing.append(k)
-        if missing:
-            stored = self.cache.get_many(scope, tier.version, missing)
-            for k, v in stored.items():
-                out[k] = v
-                self._memo[(scope, tier.version, k)] = v
-            self.hits += len(keys) - len(missing) + len(stored)
-            todo = [k for k in missing if k not in stored]
-        else:
-            self.hits += len(keys)
-            todo = []
-        if todo:
+        def compute(todo):
             context = self._context(tier, kind)
             if isinstance(context, dict) and context.get("error"):
-                results = [context for _ in todo]
-            elif tier.slow and self.executor is not None and len(todo) > 1:
-                results = list(self.executor.map(_compute_payload, [(tier.name, kind, k, context) for k in todo]))
-            else:
-                results = [_compute_payload((tier.name, kind, k, context)) for k in todo]
-            fresh = dict(zip(todo, results))
-            self.computed += len(todo)
-            # An error caused by this machine (a missing package) must not outlive the fix.
-            self.cache.put_many(scope, tier.version, {k: v for k, v in fresh.items() if not v.get("transient")})
-            for k, v in fresh.items():
-                out[k] = v
-                self._memo[(scope, tier.version, k)] = v
-        return out
+                return [context for _ in todo]
+            return self._map(_compute_payload, [(tier.name, kind, k, context) for k in todo], parallel=tier.slow)
+
+        return self._through_cache(f"{tier.name}:{kind}", tier.version, keys, compute)
 
     def _context(self, tier: Tier, kind: str):
         if tier.prepare is None:

@@ -13,9 +13,7 @@ import numpy as np
 from scipy.special import expit
 
 from .base import (
-    Relation,
-    data_scale,
-    grid_start_g0,
+    G0Relation,
     logistic_parts,
     softplus,
     split_params,
@@ -25,10 +23,9 @@ from .base import (
 LN2 = np.log(2.0)
 
 
-class AgmonLevineRelation(Relation):
+class AgmonLevineRelation(G0Relation):
     name = "agmon_levine"
     label = "Agmon–Levine"
-    param_names = ("g0",)
 
     def barrier(self, energy, theta):
         (g0,) = split_params(theta, 1)
@@ -44,13 +41,3 @@ class AgmonLevineRelation(Relation):
         u = np.asarray(energy, dtype=float) * LN2 / g0
         d = logistic_parts(u)[2] / LN2
         return stack_jacobian([d], np.shape(d))
-
-    def bounds(self, energy, barrier):
-        x, y, span_x, span_y = data_scale(energy, barrier)
-        return np.array([1e-3]), np.array([1e3 * (span_x + span_y + 10.0)])
-
-    def starts(self, energy, barrier):
-        return [grid_start_g0(self, energy, barrier)]
-
-    def derived(self, theta):
-        return {"intrinsic_barrier": float(np.asarray(theta, dtype=float)[0])}

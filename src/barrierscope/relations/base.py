@@ -152,3 +152,21 @@ def grid_start_g0(relation: Relation, energy, barrier) -> np.ndarray:
     theta = grid[:, None]
     rss = np.sum((relation.barrier(x, theta) - y) ** 2, axis=1)
     return np.array([grid[int(np.argmin(rss))]])
+
+
+class G0Relation(Relation):
+    """Base of the one-parameter relations whose parameter ``g0`` is the barrier at dE = 0
+    with asymptotes 0 downhill and dE uphill (Agmon–Levine, Rehm–Weller): one place for their
+    bounds, starting grid and intrinsic barrier."""
+
+    param_names = ("g0",)
+
+    def bounds(self, energy, barrier):
+        x, y, span_x, span_y = data_scale(energy, barrier)
+        return np.array([1e-3]), np.array([1e3 * (span_x + span_y + 10.0)])
+
+    def starts(self, energy, barrier):
+        return [grid_start_g0(self, energy, barrier)]
+
+    def derived(self, theta):
+        return {"intrinsic_barrier": float(np.asarray(theta, dtype=float)[0])}

@@ -11,13 +11,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import Relation, data_scale, grid_start_g0, split_params, stack_jacobian
+from .base import G0Relation, split_params, stack_jacobian
 
 
-class RehmWellerRelation(Relation):
+class RehmWellerRelation(G0Relation):
     name = "rehm_weller"
     label = "Rehm–Weller"
-    param_names = ("g0",)
 
     def barrier(self, energy, theta):
         (g0,) = split_params(theta, 1)
@@ -36,13 +35,3 @@ class RehmWellerRelation(Relation):
         half = 0.5 * np.asarray(energy, dtype=float)
         d = g0 / np.hypot(half, g0)
         return stack_jacobian([d], np.shape(d))
-
-    def bounds(self, energy, barrier):
-        x, y, span_x, span_y = data_scale(energy, barrier)
-        return np.array([1e-3]), np.array([1e3 * (span_x + span_y + 10.0)])
-
-    def starts(self, energy, barrier):
-        return [grid_start_g0(self, energy, barrier)]
-
-    def derived(self, theta):
-        return {"intrinsic_barrier": float(np.asarray(theta, dtype=float)[0])}

@@ -26,6 +26,7 @@ from scipy import special
 
 from ..curves.batch import fit_subsets, interior, lm_solve
 from ..curves.intervals import t_quantile
+from ..curves.stats import predictive_variance
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import out_of_fold_energy
@@ -52,10 +53,8 @@ class FoldCurves:
         """(mean, std, low, high) of the barrier at ``energy`` from split k's curve."""
         rel, th = self.relations[k], self.theta[k]
         e = np.asarray(energy, dtype=float)
-        jac = rel.jacobian(e, th)
-        var = np.einsum("np,pq,nq->n", jac, self.cov[k], jac) + self.sigma[k] ** 2
-        if energy_std is not None:
-            var = var + (rel.slope(e, th) * np.asarray(energy_std, dtype=float)) ** 2
+        var = predictive_variance(rel.jacobian(e, th), self.cov[k], self.sigma[k], rel.slope(e, th),
+                                  None if energy_std is None else np.broadcast_to(energy_std, e.shape))
         mean, std = rel.barrier(e, th), np.sqrt(var)
         q = t_quantile(level, max(int(self.dof[k]), 1))
         return mean, std, mean - q * std, mean + q * std
