@@ -67,7 +67,7 @@ def test_forest_matches_scikit_learn():
 
     X, energy, _ = invented(n=40)
     reg = DescriptorRegressor("forest").fit(X, energy)
-    Z = reg.transform(X)
+    Z = reg.standardise(X)
     rf = RandomForestRegressor(n_estimators=100, min_samples_leaf=2, max_features=1 / 3, oob_score=True,
                                random_state=0).fit(Z, energy)
     assert np.allclose(reg.predict(X), rf.predict(Z), atol=1e-9)
@@ -79,7 +79,7 @@ def test_gp_matches_scikit_learn():
 
     X, energy, _ = invented(n=25, p=3)
     reg = DescriptorRegressor("gp").fit(X, energy)
-    Z = reg.transform(X)
+    Z = reg.standardise(X)
     kernel = (ConstantKernel(1.0, (1e-3, 1e3)) * RBF(np.sqrt(3), (1e-2, 1e3)) + WhiteKernel(0.1, (1e-6, 1e1)))
     gp = GaussianProcessRegressor(kernel, normalize_y=True, n_restarts_optimizer=2, random_state=0).fit(Z, energy)
     m, s = gp.predict(Z[:5], return_std=True)

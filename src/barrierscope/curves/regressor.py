@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..estimators.base import RegressorProtocol, check_fitted
+from ..estimators.base import RegressorProtocol, check_fitted, select_column
 from ..relations import DEFAULT_RELATION, get_relation
 from .compare import compare_relations
 from .fit import check_pairs, fit_relation, loss_name
@@ -28,7 +28,8 @@ def energy_column(X) -> np.ndarray:
     if a.ndim == 2 and a.shape[1] == 1:
         a = a[:, 0]
     if a.ndim != 1:
-        raise ValueError(f"expected reaction energies of shape (n,) or (n, 1), got {a.shape}")
+        raise ValueError(f"expected reaction energies of shape (n,) or (n, 1), got {a.shape}; with more columns, "
+                         f"name the reaction energy's with energy_column")
     return a
 
 
@@ -53,9 +54,15 @@ class CurveRegressor(RegressorProtocol):
         Coverage of the parameter intervals (default 0.95).
     random_state : int or None
         Seed of the bootstrap.
+    energy_column : int, str or None
+        Where X holds the reaction energy: None (X is the energies, shape (n,) or (n, 1)), a
+        column position, or a DataFrame column name (the other columns are ignored: this lets
+        the curve sit in a pipeline fed a whole table).
 
     Attributes
     ----------
+    n_features_in_ : int
+    feature_names_in_ : ndarray of str (when X was a DataFrame with string column names)
     relation_ : Relation
     params_ : ndarray (p,)
     cov_ : ndarray (p, p)
@@ -69,11 +76,11 @@ class CurveRegressor(RegressorProtocol):
     comparison_ : Comparison or None (relation="auto")
     """
 
-    _accepts_1d = True   # reaction energies as (n,) or (n, 1), kcal/mol
+    _poor_score = True   # one column of X is used: other columns' signal is not its business
 
     def __init__(self, relation: str = DEFAULT_RELATION, loss: str = "squared", f_scale: float = 1.0,
                  intervals: str = "profile", n_bootstrap: int = 1000, level: float = 0.95,
-                 random_state: int | None = 0):
+                 random_state: int | None = 0, energy_column=None):
         self.relation = relation
         self.loss = loss
         self.f_scale = f_scale
@@ -81,12 +88,28 @@ class CurveRegressor(RegressorProtocol):
         self.n_bootstrap = n_bootstrap
         self.level = level
         self.random_state = random_state
+        self.energy_column = energy_column
+
+    @property
+    def _accepts_1d(self) -> bool:
+        """Reaction energies may come as (n,) when X is the energies alone."""
+        return self.energy_column is None
+
+    def _energies(self, X, reset: bool) -> np.ndarray:
+        A = self._validate_X(X, reset=reset)
+        if self.energy_column is None:
+            return energy_column(A)
+        return A[:, select_column(A, self.energy_column, getattr(self, "feature_names_in_", None))]
 
     def fit(self, X, y):
         if self.intervals not in INTERVAL_METHODS:
             raise ValueError(f"unknown interval method {self.intervals!r}; valid choices: "
                              f"{', '.join(INTERVAL_METHODS)}")
-        x, yv = check_pairs(energy_column(X), y, min_n=2)
+        e = self._energies(X, reset=True)
+        yv = self._validate_y(y, e.size)
+        if e.size < 2:
+            raise ValueError(f"{e.size} sample(s) (n_samples={e.size}): a curve needs at least 2 members")
+        x, yv = check_pairs(e, yv, min_n=2)
         self.comparison_ = None
         name = self.relation
         if str(name).lower() == "auto":
@@ -127,20 +150,21 @@ class CurveRegressor(RegressorProtocol):
     def predict(self, X, return_std: bool = False, energy_std=None):
         """Barrier (kcal/mol); with ``return_std`` also its predictive standard deviation."""
         check_fitted(self, "params_")
-        x = energy_column(X)
+        x = self._energies(X, reset=False)
         mean = self.relation_.barrier(x, self.params_)
         if not return_std:
             return mean
         return mean, np.sqrt(self.barrier_variance(x, energy_std))
 
-    def slope(self, X) -> np.ndarray:
-        """Local Leffler α at each reaction energy (dimensionless)."""
+    def slope(self, energy) -> np.ndarray:
+        """Local Leffler α at each reaction energy (kcal/mol; dimensionless result)."""
         check_fitted(self, "params_")
-        return self.relation_.slope(energy_column(X), self.params_)
+        return self.relation_.slope(energy_column(energy), self.params_)
 
-    def barrier_variance(self, X, energy_std=None) -> np.ndarray:
-        """Predictive variance (kcal/mol)²: (α·σ_E)² + J·Cov·Jᵀ + σ²_residual."""
-        x = energy_column(X)
+    def barrier_variance(self, energy, energy_std=None) -> np.ndarray:
+        """Predictive variance (kcal/mol)² at reaction energies ``energy`` (kcal/mol):
+        (α·σ_E)² + J·Cov·Jᵀ + σ²_residual."""
+        x = energy_column(energy)
         s = None if energy_std is None else np.broadcast_to(np.asarray(energy_std, dtype=float), x.shape)
         return predictive_variance(self.relation_.jacobian(x, self.params_), self.cov_, self.sigma_,
                                    self.relation_.slope(x, self.params_), s)
@@ -195,6 +219,7 @@ class CurveRegressor(RegressorProtocol):
         self = cls(relation=d.get("requested_relation", d["relation"]), loss=d.get("loss", "squared"),
                    intervals=d.get("intervals", "none"))
         self.relation_ = get_relation(d["relation"])
+        self.n_features_in_ = 1
         self.params_ = np.asarray(d["theta"], dtype=float)
         self.cov_ = np.asarray(d["cov"], dtype=float)
         self.sigma_ = float(d["sigma"])

@@ -15,13 +15,6 @@ from .learners import check_learner, fit_state, loo_residuals, manifold_excess, 
 from .preprocess import Preprocessor
 
 
-def _matrix(X, columns):
-    if hasattr(X, "columns"):
-        return X.to_numpy(dtype=float), list(map(str, X.columns))
-    A = np.asarray(X, dtype=float)
-    return A, list(columns) if columns is not None else [f"x{j}" for j in range(A.shape[1])]
-
-
 def _plain(v):
     """Numbers and lists only (the forest's trees are dicts of arrays)."""
     if isinstance(v, np.ndarray):
@@ -44,6 +37,9 @@ class DescriptorRegressor(RegressorProtocol):
 
     Attributes
     ----------
+    n_features_in_ : int — descriptor columns seen at fit
+    feature_names_in_ : ndarray of str — their names, when X was a DataFrame with string column
+        names; a DataFrame at predict is matched by these names (any order)
     preprocessor_ : Preprocessor
     state_ : dict — the learner's fitted numbers
     n_train_ : int
@@ -56,48 +52,47 @@ class DescriptorRegressor(RegressorProtocol):
         self.random_state = random_state
         self.effort = effort
 
-    def fit(self, X, y, columns=None, warm_start=None):
-        """Fit on descriptors X (n, p; NaN = missing) and target y (n,). ``warm_start``: a fitted
-        DescriptorRegressor of the same learner whose hyper-parameters start this fit's search
-        (Gaussian process only; validation refits use it to bound their cost)."""
-        A, cols = _matrix(X, columns)
-        y = np.asarray(y, dtype=float).ravel()
-        if A.shape[0] != y.size:
-            raise ValueError(f"X has {A.shape[0]} rows but y has {y.size}")
-        if not np.all(np.isfinite(y)):
-            raise ValueError("the target has non-finite values")
+    def fit(self, X, y, warm_start=None):
+        """Fit on descriptors X (n, p; NaN = missing; a DataFrame's column names are kept in
+        ``feature_names_in_``) and target y (n,). ``warm_start``: a fitted DescriptorRegressor
+        of the same learner whose hyper-parameters start this fit's search (Gaussian process
+        only; validation refits use it to bound their cost)."""
+        A = self._validate_X(X, reset=True)
+        y = self._validate_y(y, A.shape[0])
+        learner = check_learner(self.learner)
+        if y.size < 2:
+            raise ValueError(f"{y.size} sample(s) (n_samples={y.size}): a regression needs at least 2")
+        names = getattr(self, "feature_names_in_", None)
+        cols = [str(c) for c in names] if names is not None else [f"x{j}" for j in range(A.shape[1])]
         self.preprocessor_ = Preprocessor.fit(A, cols)
         Z = self.preprocessor_.transform(A)
         warm = getattr(warm_start, "state_", None)
-        self.state_ = fit_state(check_learner(self.learner), Z, y, self.random_state, warm, self.effort)
+        self.state_ = fit_state(learner, Z, y, self.random_state, warm, self.effort)
         self.n_train_ = int(y.size)
         return self
 
-    def transform(self, X) -> np.ndarray:
-        """The standardised descriptors the learner sees."""
+    def standardise(self, X) -> np.ndarray:
+        """The imputed, standardised descriptors the learner sees (n, kept columns)."""
         check_fitted(self, "state_")
-        A, _ = _matrix(X, self.preprocessor_.columns)
-        return self.preprocessor_.transform(A)
+        return self.preprocessor_.transform(self._validate_X(X, reset=False))
 
     def predict(self, X, return_std: bool = False):
         """Prediction in y's unit; with ``return_std`` also its predictive standard deviation."""
-        Z = self.transform(X)
+        Z = self.standardise(X)
         mean, std = predict_state(self.state_, Z)
         return (mean, std) if return_std else mean
 
     def predict_detail(self, X) -> dict:
         """One pass over X: ``mean`` and ``std`` (y's unit), the manifold ``excess`` and the
         standardised descriptors ``Z`` (for the applicability domain)."""
-        check_fitted(self, "state_")
-        Z = self.transform(X)
+        Z = self.standardise(X)
         mean, std, excess = predict_state(self.state_, Z, with_excess=True)
         return {"mean": mean, "std": std, "excess": excess, "Z": Z}
 
     def manifold_excess(self, X) -> np.ndarray:
         """How far each row's descriptor combination lies outside the training members' (0
         inside): its predictions were clipped to the training box there (see :mod:`.ridge`)."""
-        check_fitted(self, "state_")
-        return manifold_excess(self.state_, self.transform(X))
+        return manifold_excess(self.state_, self.standardise(X))
 
     def loo_predictions(self, y) -> np.ndarray | None:
         """Exact leave-one-out predictions of the training targets, when available in closed
@@ -108,13 +103,19 @@ class DescriptorRegressor(RegressorProtocol):
     def as_dict(self) -> dict:
         check_fitted(self, "state_")
         state = {k: _plain(v) for k, v in self.state_.items() if not k.startswith("_") and k != "loo_residuals"}
+        names = getattr(self, "feature_names_in_", None)
         return {"learner": self.learner, "random_state": self.random_state, "effort": self.effort, "n_train": self.n_train_,
+                "feature_names": None if names is None else [str(c) for c in names],
                 "preprocess": self.preprocessor_.as_dict(), "state": state}
 
     @classmethod
     def from_dict(cls, d: dict) -> "DescriptorRegressor":
         self = cls(learner=d["learner"], random_state=d.get("random_state", 0), effort=d.get("effort", "full"))
         self.preprocessor_ = Preprocessor.from_dict(d["preprocess"])
+        self.n_features_in_ = len(self.preprocessor_.columns)
+        names = d.get("feature_names")
+        if names is not None:
+            self.feature_names_in_ = np.asarray(names, dtype=object)
         self.state_ = dict(d["state"])
         self.n_train_ = int(d["n_train"])
         return self

@@ -14,7 +14,7 @@ import numpy as np
 from .base import RegressorProtocol, check_fitted
 from ..curves.batch import loo_weights, refit_weighted
 from .descriptor_regressor import DescriptorRegressor
-from .two_stage import TwoStageRegressor, rows
+from .two_stage import EnergyRouteMixin, TwoStageRegressor, rows
 
 
 def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, fitted: DescriptorRegressor | None = None):
@@ -44,7 +44,7 @@ def out_of_fold_barrier(curve, energy, barrier, energy_oof) -> np.ndarray:
     return curve.relation_.barrier(np.asarray(energy_oof, dtype=float)[:, None], thetas)[:, 0]
 
 
-class HybridRegressor(RegressorProtocol):
+class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
     """Two-stage barrier (kcal/mol) plus a correction of its residuals from the descriptors.
 
     Parameters
@@ -52,43 +52,52 @@ class HybridRegressor(RegressorProtocol):
     learner : str — the learner of the energy stage and of the correction
     relation : str — the relation of the two-stage part
     random_state : int
+    energy_column : int, str or None — as for :class:`TwoStageRegressor`
 
     Attributes
     ----------
+    n_features_in_ : int
+    feature_names_in_ : ndarray of str (when X was a DataFrame with string column names)
     two_stage_ : TwoStageRegressor
     correction_ : DescriptorRegressor
     oof_residuals_ : ndarray (n,) — the residuals the correction was trained on, kcal/mol
     """
 
     _allows_nan = True
+    _poor_score = True   # one column of X (the energy) carries the curve's part
 
-    def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0):
+    def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0,
+                 energy_column=None):
         self.learner = learner
         self.relation = relation
         self.random_state = random_state
+        self.energy_column = energy_column
 
     def fit(self, X, y, energy=None):
-        """X (n, p) descriptors, y (n,) barriers and ``energy`` (n,) reaction energies, kcal/mol."""
-        if energy is None:
-            raise ValueError("HybridRegressor.fit needs the members' reaction energies: fit(X, y, energy=E)")
-        if X is None or np.shape(X)[1] == 0:
-            raise ValueError("the hybrid route needs descriptors to learn its correction from")
-        barrier = np.asarray(y, dtype=float).ravel()
-        energy = np.asarray(energy, dtype=float).ravel()
+        """X (n, p) descriptors, y (n,) barriers and ``energy`` (n,) reaction energies, kcal/mol
+        (or, with ``energy_column``, X's column holding them)."""
+        if energy is None and self.energy_column is None:
+            raise ValueError("HybridRegressor.fit needs the members' reaction energies: fit(X, y, energy=E), or "
+                             "energy_column naming X's column that holds them")
+        D, energy = self._inputs(X, energy, reset=True)
+        if D is None:
+            raise ValueError(f"X has {self.n_features_in_} feature(s), the reaction energy's column alone: the hybrid "
+                             f"route needs descriptors to learn its correction from")
+        barrier = self._validate_y(y, energy.size)
         self.two_stage_ = TwoStageRegressor(self.learner, self.relation, random_state=self.random_state).fit(
-            X, barrier, energy)
-        self.n_features_in_ = self.two_stage_.n_features_in_
-        e_oof = out_of_fold_energy(X, energy, self.learner, self.random_state, fitted=self.two_stage_.energy_)
+            D, barrier, energy)
+        e_oof = out_of_fold_energy(D, energy, self.learner, self.random_state, fitted=self.two_stage_.energy_)
         self.oof_residuals_ = barrier - out_of_fold_barrier(self.two_stage_.curve_, energy, barrier, e_oof)
-        self.correction_ = DescriptorRegressor(self.learner, self.random_state).fit(X, self.oof_residuals_)
+        self.correction_ = DescriptorRegressor(self.learner, self.random_state).fit(D, self.oof_residuals_)
         return self
 
     def predict_parts(self, X, energy=None, two_stage_parts: dict | None = None) -> dict:
         """As :meth:`TwoStageRegressor.predict_parts`, the barrier corrected; ``two_stage_parts``
         (this model's two-stage parts for the same rows, when the caller has them) saves a pass."""
         check_fitted(self, "correction_")
-        parts = dict(two_stage_parts if two_stage_parts is not None else self.two_stage_.predict_parts(X, energy))
-        corr, corr_std = self.correction_.predict(X, return_std=True)
+        D, given = self._inputs(X, energy, reset=False)
+        parts = dict(two_stage_parts if two_stage_parts is not None else self.two_stage_.predict_parts(D, given))
+        corr, corr_std = self.correction_.predict(D, return_std=True)
         given = parts["energy_given"]
         parts["barrier"] = np.where(given, parts["barrier"], parts["barrier"] + corr)
         parts["barrier_std"] = np.where(given, parts["barrier_std"], corr_std)
@@ -100,14 +109,18 @@ class HybridRegressor(RegressorProtocol):
 
     def as_dict(self) -> dict:
         check_fitted(self, "correction_")
-        return {"params": self.get_params(), "two_stage": self.two_stage_.as_dict(),
-                "correction": self.correction_.as_dict()}
+        names = getattr(self, "feature_names_in_", None)
+        return {"params": self.get_params(), "n_features_in": self.n_features_in_,
+                "feature_names": None if names is None else [str(c) for c in names],
+                "two_stage": self.two_stage_.as_dict(), "correction": self.correction_.as_dict()}
 
     @classmethod
     def from_dict(cls, d: dict) -> "HybridRegressor":
         self = cls(**d["params"])
         self.two_stage_ = TwoStageRegressor.from_dict(d["two_stage"])
-        self.n_features_in_ = self.two_stage_.n_features_in_
+        self.n_features_in_ = int(d.get("n_features_in", self.two_stage_.n_features_in_))
+        if d.get("feature_names") is not None:
+            self.feature_names_in_ = np.asarray(d["feature_names"], dtype=object)
         self.correction_ = DescriptorRegressor.from_dict(d["correction"])
         self.oof_residuals_ = None
         return self

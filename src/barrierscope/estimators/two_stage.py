@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import RegressorProtocol, check_fitted
+from .base import RegressorProtocol, check_fitted, select_column
 from ..curves.regressor import CurveRegressor
 from .descriptor_regressor import DescriptorRegressor
 from .ridge import GUARD_FLAG
@@ -56,7 +56,41 @@ def rows(X, idx):
     return X.iloc[idx] if hasattr(X, "iloc") else np.asarray(X)[idx]
 
 
-class TwoStageRegressor(RegressorProtocol):
+class EnergyRouteMixin:
+    """How the energy-aware estimators (two-stage, hybrid) read their input: descriptors X and
+    the members' reaction energies, either passed as ``energy`` or held in X's column
+    ``energy_column`` (NaN there, at predict, means "unknown: predict it")."""
+
+    @property
+    def _min_features(self) -> int:
+        return 0 if self.energy_column is None else 1
+
+    def _inputs(self, X, energy, *, reset: bool):
+        """(descriptors for the energy stage — the caller's DataFrame or an array, None when
+        there are none —, reaction energies (n,) kcal/mol with NaN where unknown)."""
+        if self.energy_column is None:
+            if X is not None and np.ndim(X) == 2 and np.shape(X)[1] > 0:
+                self._validate_X(X, reset=reset)
+            elif reset:
+                self.n_features_in_ = 0 if X is None else int(np.shape(X)[1])
+            n = n_rows(X, energy)
+            return (X if X is not None and np.shape(X)[1] > 0 else None), known_energies(energy, n)
+        if energy is not None:
+            raise ValueError(f"the reaction energies are X's column {self.energy_column!r}: do not pass energy= too")
+        A = self._validate_X(X, reset=reset)
+        names = getattr(self, "feature_names_in_", None)
+        j = select_column(A, self.energy_column, names)
+        D = np.delete(A, j, axis=1)
+        if D.shape[1] == 0:
+            return None, A[:, j]
+        if names is not None:
+            import pandas as pd
+
+            D = pd.DataFrame(D, columns=[str(c) for k, c in enumerate(names) if k != j])
+        return D, A[:, j]
+
+
+class TwoStageRegressor(EnergyRouteMixin, RegressorProtocol):
     """Barrier (kcal/mol) from descriptors through the reaction energy.
 
     Parameters
@@ -68,39 +102,47 @@ class TwoStageRegressor(RegressorProtocol):
     curve_intervals : {"none", "profile", "wald", "bootstrap"}
         Parameter intervals of the curve ("none" is fast, for use inside validation loops).
     random_state : int
+    energy_column : int, str or None
+        None: the reaction energies are passed as ``fit(X, y, energy=E)`` (required) and
+        ``predict(X, energy=E)`` (optional: NaN or None means "predict it"). A column position
+        or DataFrame name: X holds them there (a computed energy where known, NaN elsewhere at
+        predict), so the estimator works in a pipeline or ``cross_val_score`` fed one table.
 
     Attributes
     ----------
-    energy_ : DescriptorRegressor or None — None when X has no columns (a curve-only model)
+    energy_ : DescriptorRegressor or None — None when there are no descriptors (a curve-only model)
     curve_ : CurveRegressor
-    n_features_in_ : int
+    n_features_in_ : int — columns of X (the energy column included)
+    feature_names_in_ : ndarray of str (when X was a DataFrame with string column names)
     """
 
     _allows_nan = True   # descriptors may be missing (imputed in fit)
+    _poor_score = True   # the barrier follows one column of X through the curve
 
     def __init__(self, learner: str = "ridge", relation: str = "asymptotic", curve_intervals: str = "none",
-                 random_state: int = 0):
+                 random_state: int = 0, energy_column=None):
         self.learner = learner
         self.relation = relation
         self.curve_intervals = curve_intervals
         self.random_state = random_state
+        self.energy_column = energy_column
 
     def fit(self, X, y, energy=None):
         """Fit both stages.
 
-        X : DataFrame or array (n, p) of descriptors (p may be 0: a curve-only model)
+        X : DataFrame or array (n, p) of descriptors (p may be 0 or X None: a curve-only model)
         y : array (n,), barriers in kcal/mol
-        energy : array (n,), the members' reaction energies in kcal/mol (required)
+        energy : array (n,), the members' reaction energies in kcal/mol (required unless
+            ``energy_column`` names X's column that holds them)
         """
-        if energy is None:
-            raise ValueError("TwoStageRegressor.fit needs the members' reaction energies: fit(X, y, energy=E)")
-        barrier = np.asarray(y, dtype=float).ravel()
-        energy = known_energies(energy, barrier.size)
+        if energy is None and self.energy_column is None:
+            raise ValueError("TwoStageRegressor.fit needs the members' reaction energies: fit(X, y, energy=E), or "
+                             "energy_column naming X's column that holds them")
+        D, energy = self._inputs(X, energy, reset=True)
+        barrier = self._validate_y(y, energy.size)
         if not np.all(np.isfinite(energy)):
             raise ValueError("every training member needs a finite reaction energy")
-        has_x = X is not None and np.shape(X)[1] > 0
-        self.n_features_in_ = int(np.shape(X)[1]) if X is not None else 0
-        self.energy_ = DescriptorRegressor(self.learner, self.random_state).fit(X, energy) if has_x else None
+        self.energy_ = DescriptorRegressor(self.learner, self.random_state).fit(D, energy) if D is not None else None
         self.curve_ = CurveRegressor(self.relation, intervals=self.curve_intervals).fit(energy, barrier)
         return self
 
@@ -111,16 +153,16 @@ class TwoStageRegressor(RegressorProtocol):
         more than the stage's residual standard deviation) and ``energy_clipped``
         (a predicted energy beyond the training span plus :data:`ENERGY_MARGIN`)."""
         check_fitted(self, "curve_")
-        n = n_rows(X, energy)
-        given = known_energies(energy, n)
+        D, given = self._inputs(X, energy, reset=False)
+        n = given.size
         e = given.copy()
         e_std = np.zeros(n)
         off, clipped = np.zeros(n, dtype=bool), np.zeros(n, dtype=bool)
         need = ~np.isfinite(given)
         Z = None
-        if self.energy_ is not None and X is not None:
+        if self.energy_ is not None and D is not None:
             # Every row is described once (the domain needs the descriptors of given-energy rows too).
-            detail = self.energy_.predict_detail(X)
+            detail = self.energy_.predict_detail(D)
             Z = detail["Z"]
             e[need], e_std[need] = detail["mean"][need], detail["std"][need]
             e[need], clipped[need] = clip_energy(e[need], *self.curve_.energy_range_)
@@ -133,14 +175,17 @@ class TwoStageRegressor(RegressorProtocol):
                 "Z": Z}
 
     def predict(self, X, energy=None, return_std: bool = False):
-        """Barriers (kcal/mol); reaction energies given in ``energy`` skip the energy stage."""
+        """Barriers (kcal/mol); reaction energies given in ``energy`` (or X's energy column) skip
+        the energy stage."""
         parts = self.predict_parts(X, energy)
         return (parts["barrier"], parts["barrier_std"]) if return_std else parts["barrier"]
 
     # -- persistence (plain numbers; see barrierscope.io.modelfile) ------------------------
     def as_dict(self) -> dict:
         check_fitted(self, "curve_")
+        names = getattr(self, "feature_names_in_", None)
         return {"params": self.get_params(), "n_features_in": self.n_features_in_,
+                "feature_names": None if names is None else [str(c) for c in names],
                 "energy_stage": None if self.energy_ is None else self.energy_.as_dict(),
                 "curve": self.curve_.as_dict()}
 
@@ -148,6 +193,8 @@ class TwoStageRegressor(RegressorProtocol):
     def from_dict(cls, d: dict) -> "TwoStageRegressor":
         self = cls(**d["params"])
         self.n_features_in_ = int(d["n_features_in"])
+        if d.get("feature_names") is not None:
+            self.feature_names_in_ = np.asarray(d["feature_names"], dtype=object)
         self.energy_ = DescriptorRegressor.from_dict(d["energy_stage"]) if d.get("energy_stage") else None
         self.curve_ = CurveRegressor.from_dict(d["curve"])
         return self

@@ -72,7 +72,7 @@ def descriptor_notes(two_stage: TwoStageRegressor, X, energy, learner: str, rand
     if pre.imputed:
         warnings.append("missing descriptor values imputed with the training median: " +
                         ", ".join(f"{k} ({v} member(s))" for k, v in pre.imputed.items()))
-    Z = two_stage.energy_.transform(X)
+    Z = two_stage.energy_.standardise(X)
     rank = int(np.linalg.matrix_rank(Z - Z.mean(axis=0))) if Z.size else 0
     if Z.shape[1] > rank:
         notes.append(f"{Z.shape[1] - rank} descriptor(s) are linear combinations of others (collinear, or more "
@@ -94,7 +94,7 @@ def fit_routes(X, energy, barrier, opts: FitOptions):
     if has_x:
         hybrid = HybridRegressor(opts.learner, relation, opts.random_state).fit(X, barrier, energy)
         direct = DescriptorRegressor(opts.learner, opts.random_state).fit(X, barrier)
-        Z = two_stage.energy_.transform(X)
+        Z = two_stage.energy_.standardise(X)
     return two_stage, hybrid, direct, ApplicabilityDomain().fit(Z, energy)
 
 

@@ -83,7 +83,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
                          f"is already a training member); see their statuses with `screen`")
     idx = np.flatnonzero(pool)
     sub = frame.iloc[idx].reset_index(drop=True)
-    Z = None if res.X is None else model.two_stage.energy_.transform(res.X.iloc[idx])
+    Z = None if res.X is None else model.two_stage.energy_.standardise(res.X.iloc[idx])
     cands = Candidates(ids=list(sub["id"]), energy=sub["energy"].to_numpy(float),
                        energy_sd=sub["energy_sd"].to_numpy(float), Z=Z, in_domain=sub["in_domain"].to_numpy(bool),
                        ad_distance=sub["ad_distance"].to_numpy(float),

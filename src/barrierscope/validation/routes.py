@@ -204,8 +204,8 @@ def _fold_fits(X, targets, splits, learner, random_state, oof: bool = False, des
         Xtr, Xte = rows(X, s.train), rows(X, s.test)
         reg = DescriptorRegressor(learner, random_state, effort="refit").fit(Xtr, t, warm_start=warm)
         pred, sd = reg.predict(Xte, return_std=True)
-        fit = {"pred": pred, "sd": sd, "excess": reg.manifold_excess(Xte), "Z": reg.transform(Xtr),
-               "Zt": reg.transform(Xte), "capped": int(reg.state_.get("capped", 0))}
+        fit = {"pred": pred, "sd": sd, "excess": reg.manifold_excess(Xte), "Z": reg.standardise(Xtr),
+               "Zt": reg.standardise(Xte), "capped": int(reg.state_.get("capped", 0))}
         if oof:
             fit["oof"] = out_of_fold_energy(Xtr, t, learner, random_state, fitted=reg)
         out.append(fit)
