@@ -8,6 +8,8 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
+
+from barrierscope.errors import InputError
 from typer.testing import CliRunner
 
 from barrierscope.cli import app
@@ -107,7 +109,7 @@ def test_validation_by_member_and_by_family():
 def test_share_choices_and_sizes():
     assert parse_share(None) == ("width",) and parse_share("none") == ()
     assert parse_share("width, floor") == ("floor", "width")
-    with pytest.raises(ValueError, match="not a parameter"):
+    with pytest.raises(InputError, match="--share slope: slope is not a parameter"):
         parse_share("slope")
     x, y, lab = invented(0)
     fam = np.array(["abcd".index(v) for v in lab])

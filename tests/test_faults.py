@@ -109,3 +109,37 @@ def test_dask_worker_killed_mid_screen_loses_no_rows(setup):
     res = pd.read_csv(out)
     assert result["summary"].rows == 60000 and len(res) == 60000
     assert list(res["row"]) == list(range(1, 60001))
+
+
+def test_a_fault_in_barrierscope_exits_3_with_the_traceback_in_a_file(tmp_path, monkeypatch):
+    """A programming error is not the chemist's bad input: exit 3 (not 2), 'internal error —
+    please report', and the traceback in the file the message names. A ValueError raised
+    outside the checking of an option is such a fault too."""
+    import re
+
+    from typer.testing import CliRunner
+
+    import barrierscope.jobs.curve as curve_job
+    from barrierscope.cli import app
+
+    path = tmp_path / "pairs.csv"
+    path.write_text("dE,dG\n" + "\n".join(f"{e},{10 + 0.5 * e}" for e in range(-6, 6)) + "\n")
+    monkeypatch.setenv("TMPDIR", str(tmp_path))
+    monkeypatch.delenv("BARRIERSCOPE_DEBUG", raising=False)
+    import tempfile
+
+    monkeypatch.setattr(tempfile, "tempdir", str(tmp_path))
+
+    def broken(*args, **kwargs):
+        raise ValueError("an index off by one")       # a bug, dressed as a ValueError
+
+    monkeypatch.setattr(curve_job, "compare_curves", broken)
+    result = CliRunner().invoke(app, ["curve", str(path), "--energy", "dE", "--barrier", "dG"])
+    assert result.exit_code == 3
+    assert "internal error — please report" in result.output
+    where = re.search(r"the traceback is in (\S+)", result.output).group(1)
+    text = open(where, encoding="utf-8").read()
+    assert "an index off by one" in text and "Traceback" in text and "compare_curves" not in result.output.split("(")[0]
+    # The same command with a bad option is the chemist's to fix: exit 2, no traceback file.
+    bad = CliRunner().invoke(app, ["curve", str(path), "--energy", "dE", "--barrier", "dG", "--loss", "quartic"])
+    assert bad.exit_code == 2 and "--loss" in bad.output and "internal error" not in bad.output

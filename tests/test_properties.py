@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 
 from barrierscope.descriptors.featurize import featurize
 from barrierscope.descriptors.tiers import DescriptorEngine
-from barrierscope.errors import InputError, ModelFileError
+from barrierscope.errors import DataError, ModelFileError
 from barrierscope.io.tables import iter_table
 from barrierscope.structures.spec import make_spec
 
@@ -32,7 +32,7 @@ def test_arbitrary_bytes_never_crash_the_readers(data, suffix):
             fh.write(data)
         try:
             chunks = list(iter_table(path, chunk_size=50))
-        except InputError as exc:
+        except DataError as exc:
             assert str(exc)
             return
         total = sum(len(c) for c in chunks)

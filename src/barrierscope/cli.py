@@ -1,8 +1,11 @@
 """The ``barrierscope`` command line: a thin layer over the library (jobs compute in kcal/mol,
 views show the user's unit and words).
 
-Every command turns bad input into a one-paragraph message on stderr and a non-zero exit
-(2 for input the run cannot use); ``BARRIERSCOPE_DEBUG=1`` shows tracebacks.
+Every command turns bad input (a :class:`~barrierscope.errors.BarrierscopeError`: an option,
+a file, a row, a fit the data cannot support) into a one-paragraph message on stderr and
+exit 2. Anything else is a fault in barrierscope: exit 3, "internal error — please report",
+the traceback written to a file the message names; ``BARRIERSCOPE_DEBUG=1`` shows tracebacks
+on screen instead.
 """
 
 from __future__ import annotations
@@ -41,8 +44,23 @@ def _fail(message: str, code: int = 2) -> None:
     raise typer.Exit(code)
 
 
+def crash_report(exc: BaseException) -> Path:
+    """Write the traceback of an internal fault to a file of its own (the message names it)."""
+    import tempfile
+    import time
+    import traceback
+
+    from . import __version__
+
+    path = Path(tempfile.gettempdir()) / f"barrierscope-error-{time.strftime('%Y%m%d-%H%M%S')}-{os.getpid()}.txt"
+    text = "".join(traceback.format_exception(type(exc), exc, exc.__traceback__))
+    path.write_text(f"barrierscope {__version__}\n{text}", encoding="utf-8")
+    return path
+
+
 def guarded(func):
-    """Run a command body; user-facing errors become messages, not tracebacks."""
+    """Run a command body: the chemist's problems become messages (exit 2), faults in
+    barrierscope an internal-error message with the traceback in a file (exit 3)."""
 
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
@@ -52,19 +70,16 @@ def guarded(func):
             raise
         except BarrierscopeError as exc:
             _fail(str(exc), exc.exit_code)
-        except (ValueError, KeyError) as exc:
-            if os.environ.get("BARRIERSCOPE_DEBUG"):
-                raise
-            _fail(str(exc).strip("'\""))
-        except MemoryError:
-            _fail("out of memory; try a smaller --chunk-size", 3)
         except KeyboardInterrupt:
             _fail("interrupted", 130)
-        except Exception as exc:  # an internal fault: say so plainly
+        except MemoryError:
+            _fail("out of memory; try a smaller --chunk-size", 3)
+        except Exception as exc:  # a fault in barrierscope, not in the input
             if os.environ.get("BARRIERSCOPE_DEBUG"):
                 raise
-            _fail(f"internal error ({type(exc).__name__}: {exc}); rerun with BARRIERSCOPE_DEBUG=1 for a traceback "
-                  f"and report it", 3)
+            where = crash_report(exc)
+            _fail(f"internal error — please report ({type(exc).__name__}: {str(exc)[:300]}); the traceback is in "
+                  f"{where} (BARRIERSCOPE_DEBUG=1 prints it here instead)", 3)
 
     return wrapper
 
@@ -113,9 +128,28 @@ OLD_UNITS = typer.Option(None, "--energy-units", hidden=True)
 
 
 def one_unit(units: Optional[str], old: Optional[str]) -> Optional[str]:
+    """The library energy unit, normalised; None for the model's."""
+    from .errors import InputError
+    from .jobs.options import option
+    from .units import normalize_unit
+
     if units and old and units != old:
-        raise ValueError(f"--units {units} and --energy-units {old} disagree (they are the same option)")
-    return units or old
+        raise InputError(f"--units {units} and --energy-units {old} disagree (they are the same option)")
+    if not (units or old):
+        return None
+    with option("--units"):
+        return normalize_unit(units or old)
+
+
+def temperature_option(text: str) -> float:
+    """--temperature in kelvin (a warning when a bare number looks like Celsius)."""
+    from .jobs.options import option
+    from .units import parse_temperature
+
+    with option("--temperature"):
+        kelvin, note = parse_temperature(text)
+    warn([note] if note else [])
+    return kelvin
 
 
 @app.command()
@@ -253,16 +287,14 @@ def screen(model: Path = typer.Argument(..., help="Model file written by `barrie
     from .jobs.predict import ScreenOptions
     from .jobs.screen import run_screen
 
-    units = one_unit(units, energy_units)
-    from .units import normalize_unit, parse_temperature
+    from .jobs.options import at_least, positive
     from .views.screen_text import format_screen
 
-    if chunk_size < 1:
-        raise ValueError("--chunk-size must be at least 1")
-    kelvin, note = parse_temperature(temperature)
-    warn([note] if note else [])
-    opts = ScreenOptions(temperature=kelvin, transmission=transmission, energy_column=energy,
-                         energy_units=normalize_unit(units) if units else None, id_column=id_column,
+    units = one_unit(units, energy_units)
+    at_least("--chunk-size", chunk_size, 1)
+    opts = ScreenOptions(temperature=temperature_option(temperature),
+                         transmission=positive("--transmission", transmission), energy_column=energy,
+                         energy_units=units, id_column=id_column,
                          cache_dir=str(cache_dir) if cache_dir is not None else "default", max_atoms=max_atoms)
     executor = make_executor(workers=workers, scheduler=scheduler)
     try:
@@ -299,12 +331,11 @@ def suggest(model: Path = typer.Argument(..., help="Model file written by `barri
     from .io.modelfile import load_model
     from .jobs.report import write_report
     from .jobs.suggest import suggest_file
-    from .units import normalize_unit
     from .views.suggest_text import format_suggestions, suggest_json
 
     units = one_unit(units, energy_units)
     fitted = load_model(model)
-    result = suggest_file(model, candidates, k, goal, energy, normalize_unit(units) if units else None, id_column,
+    result = suggest_file(model, candidates, k, goal, energy, units, id_column,
                           str(cache_dir) if cache_dir is not None else "default", model=fitted)
     if report is not None:
         write_report(fitted, path=report, source=str(candidates), picks=result)

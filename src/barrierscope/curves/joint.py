@@ -224,7 +224,7 @@ def fit_joint(rel: Relation, energy, barrier, fam, n_families: int, shared=("wid
     x, y, fam = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float), np.asarray(fam, dtype=int)
     unknown = [s for s in shared if s not in rel.param_names]
     if unknown:
-        raise ValueError(f"--share {','.join(unknown)}: the {rel.label} relation has the parameters "
+        raise ValueError(f"shared parameter(s) {', '.join(unknown)}: the {rel.label} relation has the parameters "
                          f"{', '.join(rel.param_names)}")
     layout = JointLayout(tuple(rel.param_names), tuple(s for s in rel.param_names if s in shared), n_families)
     counts = np.bincount(fam, minlength=n_families)

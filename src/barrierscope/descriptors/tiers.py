@@ -119,7 +119,7 @@ def parse_tiers(text: str | None) -> tuple[str, ...]:
         raise ValueError(f"unknown descriptor tier(s) {', '.join(map(repr, unknown))}; valid choices: "
                          f"{', '.join(TIERS)}, none")
     if len(set(names)) != len(names):
-        raise ValueError("a descriptor tier is named twice in --tiers")
+        raise ValueError("a descriptor tier is named twice")
     return names
 
 

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from ..errors import FitRefused, InputError, describe_row
+from ..errors import FitRefused, DataError, describe_row
 from ..units import to_kcal, unit_mixup_hint
 from .tables import READ_ERROR, ROW, id_column_of, parse_numeric, require_columns, row_ids
 
@@ -149,7 +149,7 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
     bad_rows = {p.row for p in problems}
     ok = np.array([r not in bad_rows for r in rows], dtype=bool)
     if problems and not skip_bad_rows:
-        raise InputError(f"{source}: {len(bad_rows)} row(s) cannot be used:\n  {format_problems(problems)}\n"
+        raise DataError(f"{source}: {len(bad_rows)} row(s) cannot be used:\n  {format_problems(problems)}\n"
                          f"fix them, or pass --skip-bad-rows to leave them out (each will be listed)")
     warnings: list[str] = []
     if problems:
@@ -167,7 +167,7 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
         warnings += dup_warn
         ok[sub[~keep_sub]] = False
         if conflicts and not skip_bad_rows:
-            raise InputError(f"{source}: {len(conflicts)} rows collide with another row of other energies:\n  "
+            raise DataError(f"{source}: {len(conflicts)} rows collide with another row of other energies:\n  "
                              f"{format_problems(conflicts)}\n{collision_advice(by_structure, conflicts)}")
         if conflicts:
             warnings.append(f"{len(conflicts)} row(s) left out because they collide with another row of different "

@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError
+from ..errors import DataError
 from .atomic import atomic_path
 
 
@@ -96,7 +96,7 @@ def assemble(parts: list[Path], rank: np.ndarray, output: Path, fmt: str, header
                     writer = pq.ParquetWriter(tmp, table.schema)
                 writer.write_table(table)
             if writer is None:
-                raise InputError("the library has no rows")
+                raise DataError("the library has no rows")
             writer.close()
             return
         with open(tmp, "w", encoding="utf-8", newline="") as out:

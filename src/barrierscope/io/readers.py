@@ -1,6 +1,6 @@
 """The file formats, one reader each: CSV/TSV (delimiter sniffed), SMILES files, SDF,
 Parquet and Excel workbooks. Every reader yields DataFrames of text cells with the 1-based row
-number in :data:`.tables.ROW` and raises :class:`~barrierscope.errors.InputError` naming the
+number in :data:`.tables.ROW` and raises :class:`~barrierscope.errors.DataError` naming the
 file and the problem (empty, binary, not UTF-8, ragged, duplicate columns...).
 """
 
@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError
+from ..errors import DataError
 
 ROW = "_row"
 READ_ERROR = "_read_error"
@@ -26,11 +26,11 @@ DEFAULT_CHUNK = 50_000
 def _check_file(path: Path) -> bytes:
     """Existence, emptiness and binary-garbage checks; returns the first bytes."""
     if not path.exists():
-        raise InputError(f"{path}: no such file")
+        raise DataError(f"{path}: no such file")
     if path.is_dir():
-        raise InputError(f"{path}: is a folder, not a file")
+        raise DataError(f"{path}: is a folder, not a file")
     if path.stat().st_size == 0:
-        raise InputError(f"{path}: the file is empty")
+        raise DataError(f"{path}: the file is empty")
     with open(path, "rb") as fh:
         return fh.read(65536)
 
@@ -41,12 +41,12 @@ def _is_compressed(path: Path) -> bool:
 
 def _decode_head(path: Path, head: bytes) -> str:
     if b"\x00" in head:
-        raise InputError(f"{path}: looks like a binary file (it contains NUL bytes), not text")
+        raise DataError(f"{path}: looks like a binary file (it contains NUL bytes), not text")
     dec = codecs.getincrementaldecoder("utf-8-sig")()
     try:
         return dec.decode(head, final=False)
     except UnicodeDecodeError as exc:
-        raise InputError(f"{path}: is not UTF-8 text (byte 0x{head[exc.start]:02x} at offset {exc.start}); "
+        raise DataError(f"{path}: is not UTF-8 text (byte 0x{head[exc.start]:02x} at offset {exc.start}); "
                          f"save it as UTF-8 (spreadsheets: 'CSV UTF-8') and try again") from None
 
 
@@ -76,7 +76,7 @@ def _header_names(path: Path, line: str, delimiter: str) -> list[str]:
             dups.append(n)
         seen[n] = seen.get(n, 0) + 1
     if dups:
-        raise InputError(f"{path}: duplicate column name(s) {', '.join(repr(d) for d in sorted(set(dups)))}; "
+        raise DataError(f"{path}: duplicate column name(s) {', '.join(repr(d) for d in sorted(set(dups)))}; "
                          f"every column needs its own name")
     return [n if n else f"column_{k + 1}" for k, n in enumerate(names)]
 
@@ -88,7 +88,7 @@ def csv_chunks(path: Path, fmt: str, chunk_size: int | None) -> Iterator[pd.Data
     else:
         text_head = _decode_head(path, head)
         if not text_head.strip():
-            raise InputError(f"{path}: the file holds only white space")
+            raise DataError(f"{path}: the file holds only white space")
     lines = text_head.splitlines()
     default = "\t" if fmt == "tsv" else ","
     delimiter = _sniff_delimiter(lines, default) if fmt == "csv" and lines else default
@@ -107,14 +107,14 @@ def csv_chunks(path: Path, fmt: str, chunk_size: int | None) -> Iterator[pd.Data
             if len(chunk):
                 yield chunk
         if not any_rows:
-            raise InputError(f"{path}: has a header but no data rows")
+            raise DataError(f"{path}: has a header but no data rows")
     except pd.errors.EmptyDataError:
-        raise InputError(f"{path}: has no header or data") from None
+        raise DataError(f"{path}: has no header or data") from None
     except pd.errors.ParserError as exc:
-        raise InputError(f"{path}: rows do not line up with the header ({_parser_message(exc)}); "
+        raise DataError(f"{path}: rows do not line up with the header ({_parser_message(exc)}); "
                          f"check for stray delimiters or unbalanced quotes") from None
     except UnicodeDecodeError as exc:
-        raise InputError(f"{path}: is not UTF-8 text (a byte 0x{exc.object[exc.start]:02x} further into "
+        raise DataError(f"{path}: is not UTF-8 text (a byte 0x{exc.object[exc.start]:02x} further into "
                          f"the file); save it as UTF-8 and try again") from None
 
 
@@ -153,12 +153,12 @@ def smi_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame]:
                     yield _frame(columns, rows, row_numbers)
                     rows, row_numbers = [], []
     except UnicodeDecodeError as exc:
-        raise InputError(f"{path}: is not UTF-8 text (byte 0x{exc.object[exc.start]:02x} further into the file)") from None
+        raise DataError(f"{path}: is not UTF-8 text (byte 0x{exc.object[exc.start]:02x} further into the file)") from None
     if rows:
         any_rows = True
         yield _frame(columns, rows, row_numbers)
     if not any_rows:
-        raise InputError(f"{path}: holds no SMILES lines")
+        raise DataError(f"{path}: holds no SMILES lines")
 
 
 def _frame(columns, rows, row_numbers) -> pd.DataFrame:
@@ -210,7 +210,7 @@ def sdf_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame]:
         any_rows = True
         yield _records_frame(records)
     if not any_rows:
-        raise InputError(f"{path}: holds no SDF records")
+        raise DataError(f"{path}: holds no SDF records")
 
 
 def _records_frame(records: list[dict]) -> pd.DataFrame:
@@ -225,19 +225,19 @@ def _records_frame(records: list[dict]) -> pd.DataFrame:
 def parquet_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame]:
     head = _check_file(path)
     if not head.startswith(b"PAR1"):
-        raise InputError(f"{path}: is not a Parquet file (no PAR1 signature)")
+        raise DataError(f"{path}: is not a Parquet file (no PAR1 signature)")
     try:
         import pyarrow.parquet as pq
     except ImportError:  # pragma: no cover - depends on the install
-        raise InputError("reading Parquet needs pyarrow (pip install pyarrow)") from None
+        raise DataError("reading Parquet needs pyarrow (pip install pyarrow)") from None
     try:
         pf = pq.ParquetFile(path)
     except Exception as exc:
-        raise InputError(f"{path}: cannot be read as Parquet ({exc})") from None
+        raise DataError(f"{path}: cannot be read as Parquet ({exc})") from None
     names = pf.schema_arrow.names
     dups = sorted({n for n in names if names.count(n) > 1})
     if dups:
-        raise InputError(f"{path}: duplicate column name(s) {', '.join(map(repr, dups))}")
+        raise DataError(f"{path}: duplicate column name(s) {', '.join(map(repr, dups))}")
     start = 1
     any_rows = False
     for batch in pf.iter_batches(batch_size=chunk_size or DEFAULT_CHUNK):
@@ -248,7 +248,7 @@ def parquet_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame]
             any_rows = True
             yield df
     if not any_rows:
-        raise InputError(f"{path}: has columns but no data rows")
+        raise DataError(f"{path}: has columns but no data rows")
 
 
 
@@ -256,22 +256,22 @@ def xlsx_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame]:
     """The first worksheet of an Excel workbook, read like a CSV file (text cells; openpyxl)."""
     head = _check_file(path)
     if not head.startswith(b"PK"):
-        raise InputError(f"{path}: is not an Excel workbook (.xlsx is a zip archive)")
+        raise DataError(f"{path}: is not an Excel workbook (.xlsx is a zip archive)")
     try:
         df = pd.read_excel(path, sheet_name=0, dtype=str, engine="openpyxl", keep_default_na=False)
     except ImportError:  # pragma: no cover - openpyxl is a dependency
-        raise InputError("reading .xlsx needs openpyxl (pip install openpyxl)") from None
+        raise DataError("reading .xlsx needs openpyxl (pip install openpyxl)") from None
     except Exception as exc:
-        raise InputError(f"{path}: cannot be read as an Excel workbook ({exc})") from None
+        raise DataError(f"{path}: cannot be read as an Excel workbook ({exc})") from None
     names = [str(c).strip() for c in df.columns]
     dups = sorted({n for n in names if names.count(n) > 1})
     if dups:
-        raise InputError(f"{path}: duplicate column name(s) {', '.join(map(repr, dups))}")
+        raise DataError(f"{path}: duplicate column name(s) {', '.join(map(repr, dups))}")
     df.columns = [n if n and not n.startswith("Unnamed:") else f"column_{k + 1}" for k, n in enumerate(names)]
     df = df.fillna("").astype(str)
     df = df[(df != "").any(axis=1)].reset_index(drop=True)
     if df.empty:
-        raise InputError(f"{path}: the first worksheet has a header but no data rows")
+        raise DataError(f"{path}: the first worksheet has a header but no data rows")
     df.insert(0, ROW, np.arange(1, len(df) + 1, dtype=np.int64))
     size = chunk_size or DEFAULT_CHUNK
     for start in range(0, len(df), size):

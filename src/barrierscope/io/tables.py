@@ -3,7 +3,7 @@
 Every data row keeps its 1-based position in the file (column :data:`ROW`), so every later
 message can name it. Text cells are read as text (no type guessing); numbers are converted
 by :func:`parse_numeric`, which says which row holds what instead of producing NaN.
-Problems with the file as a whole raise :class:`~barrierscope.errors.InputError` naming the
+Problems with the file as a whole raise :class:`~barrierscope.errors.DataError` naming the
 file and the problem.
 """
 
@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError
+from ..errors import DataError
 from . import readers
 from .readers import DEFAULT_CHUNK, READ_ERROR, ROW  # noqa: F401  (ROW: 1-based row; READ_ERROR: reader's problem)
 
@@ -37,7 +37,7 @@ def detect_format(path: str | os.PathLike) -> str:
         suffixes = suffixes[:-1]
     fmt = _SUFFIXES.get(suffixes[-1] if suffixes else "")
     if fmt is None:
-        raise InputError(f"{p}: cannot tell the format from the name; use one of "
+        raise DataError(f"{p}: cannot tell the format from the name; use one of "
                          f"{', '.join(sorted(_SUFFIXES))}")
     return fmt
 
@@ -56,7 +56,7 @@ def iter_table(path: str | os.PathLike, chunk_size: int | None = None, fmt: str 
         return readers.sdf_chunks(p, chunk_size)
     if fmt == "parquet":
         return readers.parquet_chunks(p, chunk_size)
-    raise InputError(f"{p}: unknown format {fmt!r}; valid choices: {', '.join(FORMATS)}")
+    raise DataError(f"{p}: unknown format {fmt!r}; valid choices: {', '.join(FORMATS)}")
 
 
 def read_table(path: str | os.PathLike, fmt: str | None = None) -> pd.DataFrame:
@@ -74,7 +74,7 @@ def require_columns(df: pd.DataFrame, columns, source: str | os.PathLike) -> Non
         if len(have) == 1 and any(d in str(have[0]) for d in (" ", ";", "|", "\t", ",")):
             hint = (" — the whole header reads as one column, so the file is probably delimited by "
                     "something this reader did not recognise (use commas, tabs, semicolons or '|')")
-        raise InputError(f"{source}: missing column(s) {', '.join(map(repr, missing))}; "
+        raise DataError(f"{source}: missing column(s) {', '.join(map(repr, missing))}; "
                          f"the file has {', '.join(map(repr, have)) or 'no columns'}{hint}")
 
 
@@ -141,9 +141,9 @@ def write_table(df: pd.DataFrame, path: str | os.PathLike) -> None:
             try:
                 df.to_parquet(tmp, index=False)
             except ImportError:  # pragma: no cover
-                raise InputError("writing Parquet needs pyarrow (pip install pyarrow)") from None
+                raise DataError("writing Parquet needs pyarrow (pip install pyarrow)") from None
         elif fmt in ("csv", "tsv"):
             df.to_csv(tmp, index=False, sep="\t" if fmt == "tsv" else ",")
         else:
-            raise InputError(f"{p}: results can be written as .csv, .tsv or .parquet")
+            raise DataError(f"{p}: results can be written as .csv, .tsv or .parquet")
 

@@ -8,10 +8,15 @@ identifiability verdict. The views put it into the user's unit and words.
 
 from __future__ import annotations
 
+import contextlib
+
 import numpy as np
 
 from ..curves.compare import BEST_BY, compare_relations
+from ..curves.fit import FitError, loss_name
 from ..curves.regressor import CurveRegressor
+from ..errors import DataError, FitRefused
+from .options import at_least, one_of, option
 from ..relations import RELATIONS
 
 
@@ -20,8 +25,6 @@ def compare_curves(energy, barrier, energy_kind: str = "free-energy", loss: str 
     """The comparison record (kcal/mol)."""
     x = np.asarray(energy, dtype=float)
     y = np.asarray(barrier, dtype=float)
-    from ..curves.fit import loss_name
-
     comp = compare_relations(x, y, loss=loss_name(loss))
     out: dict = {"n": comp.n, "energy_kind": energy_kind, "energy_range": [float(np.min(x)), float(np.max(x))],
                  "relations": {}, "best": comp.best, "best_by": BEST_BY, "loss": loss}
@@ -56,22 +59,44 @@ def compare_curves(energy, barrier, energy_kind: str = "free-energy", loss: str 
     return out
 
 
+def curve_options(units: str, kind: str) -> tuple[str, str]:
+    """(unit, energy kind) of the `curve` command's options, or the option's message."""
+    from ..units import normalize_unit, parse_energy_kind
+
+    with option("--units"):
+        unit = normalize_unit(units)
+    with option("--kind"):
+        energy_kind = parse_energy_kind(kind).value
+    return unit, energy_kind
+
+
+@contextlib.contextmanager
+def refused():
+    """A fit the data cannot support (FitError: no energy span, too few members) is the
+    chemist's to know: FitRefused, exit 2."""
+    try:
+        yield
+    except FitError as exc:
+        raise FitRefused(str(exc)) from None
+
+
 def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: str = "free-energy",
                id_column: str | None = None, loss: str = "squared", intervals: str = "profile",
                n_bootstrap: int = 1000, skip_bad_rows: bool = False) -> dict:
     """The comparison record of a table's pairs, with the warnings and skipped rows (kcal/mol)."""
     from ..io.pairs import load_pairs, require_members
     from ..io.tables import read_table
-    from ..units import normalize_unit, parse_energy_kind
 
-    unit = normalize_unit(units)
-    energy_kind = parse_energy_kind(kind).value
-    if intervals not in ("profile", "wald", "bootstrap"):
-        raise ValueError(f"unknown interval method {intervals!r}; valid choices: profile, wald, bootstrap")
+    unit, energy_kind = curve_options(units, kind)
+    one_of("--intervals", intervals, ("profile", "wald", "bootstrap"))
+    with option("--loss"):
+        loss_name(loss)
+    at_least("--n-bootstrap", n_bootstrap, 20)
     pairs = load_pairs(read_table(data), str(data), energy, barrier, unit, id_col=id_column, skip_bad_rows=skip_bad_rows)
     require_members(pairs.n, 4, "comparing the relations with leave-one-out")
-    record = compare_curves(pairs.energy, pairs.barrier, energy_kind=energy_kind, loss=loss,
-                            intervals=intervals, n_bootstrap=n_bootstrap)
+    with refused():
+        record = compare_curves(pairs.energy, pairs.barrier, energy_kind=energy_kind, loss=loss,
+                                intervals=intervals, n_bootstrap=n_bootstrap)
     record.update({"energy_column": energy, "barrier_column": barrier, "warnings": pairs.warnings, "units": unit,
                    "skipped": [{"row": p.row, "id": p.ident, "problem": p.message}
                                              for p in pairs.skipped]})
@@ -86,17 +111,13 @@ def families_file(data, energy: str, barrier: str, family: str, share: str | Non
     another reagent)."""
     from ..io.pairs import load_pairs
     from ..io.tables import read_table
-    from ..units import normalize_unit, parse_energy_kind
     from .families import family_labels, joint_record, parse_share
 
-    unit = normalize_unit(units)
-    energy_kind = parse_energy_kind(kind).value
+    unit, energy_kind = curve_options(units, kind)
     df = read_table(data)
     labels, problems = family_labels(df, family, str(data))
     if problems and not skip_bad_rows:
-        from ..errors import InputError
-
-        raise InputError(f"{data}: {len(problems)} row(s) have no family:\n  " +
+        raise DataError(f"{data}: {len(problems)} row(s) have no family:\n  " +
                          "\n  ".join(map(str, problems[:20])) + "\nfill them, or pass --skip-bad-rows")
     x, y, fam_labels, warnings, skipped = [], [], [], [], [str(p) for p in problems]
     for name in sorted(set(labels) - {""}):
@@ -108,7 +129,8 @@ def families_file(data, energy: str, barrier: str, family: str, share: str | Non
         fam_labels += [name] * pairs.n
         warnings += [f"family {name}: {w}" for w in pairs.warnings]
         skipped += [f"family {name}: {p}" for p in pairs.skipped]
-    record, fit, fam, names = joint_record(np.array(x), np.array(y), fam_labels, share=parse_share(share))
+    with refused():
+        record, fit, fam, names = joint_record(np.array(x), np.array(y), fam_labels, share=parse_share(share))
     record.update({"energy_kind": energy_kind, "units": unit, "family_column": family, "warnings": warnings,
                    "skipped": skipped})
     if figure is not None:

@@ -9,6 +9,7 @@ from ..descriptors.featurize import featurize
 from ..descriptors.tiers import DescriptorEngine
 from ..io.tables import ROW, iter_table, require_columns, row_ids
 from ..structures.checks import DEFAULT_MAX_HEAVY_ATOMS
+from ..errors import InputError
 from ..structures.spec import InputSpec
 
 
@@ -46,7 +47,7 @@ def run_describe(data, output, structure, tiers: str, id_column=None, cache_dir=
 
     spec = structure_spec(*structure)
     if spec.mode == "none":
-        raise ValueError("say where the structures are: --substituents, --molecule (with or without --core), "
+        raise InputError("say where the structures are: --substituents, --molecule (with or without --core), "
                          "--reaction, or --template with --substituents")
     with descriptor_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent) as engine:
         table = describe_file(data, spec, engine, id_column=id_column, max_atoms=max_atoms)

@@ -19,6 +19,7 @@ from dataclasses import replace
 import numpy as np
 
 from ..curves.fit import FitError, fit_relation
+from ..errors import FitRefused, InputError
 from ..curves.intervals import profile_intervals
 from ..curves.joint import fit_joint, separate_fits, sharing_test
 from ..curves.joint_intervals import derived_with_intervals, joint_profile_intervals
@@ -38,7 +39,7 @@ def parse_share(text: str | None, relation: str = "asymptotic") -> tuple[str, ..
         return ()
     bad = [t for t in items if t not in names]
     if bad:
-        raise ValueError(f"--share {text}: {', '.join(bad)} is not a parameter of the {relation} relation "
+        raise InputError(f"--share {text}: {', '.join(bad)} is not a parameter of the {relation} relation "
                          f"({', '.join(names)}); choose {SHARE_CHOICES}")
     return tuple(n for n in names if n in items)
 
@@ -104,7 +105,7 @@ def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("
     x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
     fam, names = family_codes(labels)
     if len(names) < 2:
-        raise ValueError(f"--family: one family only ({names[0] if names else 'none'}); a joint fit needs two or more")
+        raise FitRefused(f"--family: one family only ({names[0] if names else 'none'}); a joint fit needs two or more")
     rel = get_relation(relation)
     separate = separate_fits(rel, x, y, fam, len(names))
     fit = fit_joint(rel, x, y, fam, len(names), share, separate)

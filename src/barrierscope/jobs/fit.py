@@ -11,7 +11,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..errors import FitRefused
+from ..curves.fit import FitError
+from ..errors import FitRefused, InputError
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import HybridRegressor
@@ -24,6 +25,7 @@ from ..validation.splits import REGIMES
 from ..validation.verdict import primary_route
 from .members import prepare_members
 from .model import FamilyModel
+from .options import at_least, one_of, option
 
 
 @dataclass
@@ -98,18 +100,36 @@ def fit_routes(X, energy, barrier, opts: FitOptions):
     return two_stage, hybrid, direct, ApplicabilityDomain().fit(Z, energy)
 
 
+def check_options(opts: FitOptions) -> tuple[str, str]:
+    """(energy kind, unit) once every option is known to be usable; else the option's message."""
+    with option("--learner"):
+        check_learner(opts.learner)
+    if opts.relation != "auto":
+        with option("--relation"):
+            get_relation(opts.relation)
+    with option("--kind"):
+        kind = parse_energy_kind(opts.energy_kind).value
+    with option("--units"):
+        unit = normalize_unit(opts.units)
+    one_of("--prediction-intervals", opts.prediction_intervals, INTERVAL_METHODS)
+    at_least("--shuffles", opts.n_shuffles, 0)
+    if opts.family_column and opts.prediction_intervals != "model":
+        raise InputError("--prediction-intervals jackknife+ is not available with --family yet: its refits know one "
+                         "curve, not each family's")
+    return kind, unit
+
+
 def fit_family(df, source: str, spec, engine, opts: FitOptions):
     """(FamilyModel, record) for one family's table; the record is in kcal/mol."""
-    check_learner(opts.learner)
-    if opts.relation != "auto":
-        get_relation(opts.relation)
-    kind = parse_energy_kind(opts.energy_kind).value
-    unit = normalize_unit(opts.units)
+    kind, unit = check_options(opts)
     X, pairs, spec = prepare_members(df, source, spec, engine, opts)
     has_x = X is not None and X.shape[1] > 0
     _check_sizes(pairs.n, has_x, opts)
     energy, barrier = pairs.energy, pairs.barrier
-    two_stage, hybrid, direct, domain = fit_routes(X, energy, barrier, opts)
+    try:
+        two_stage, hybrid, direct, domain = fit_routes(X, energy, barrier, opts)
+    except FitError as exc:      # the data cannot support a curve (no span, say): the chemist's to know
+        raise FitRefused(str(exc)) from None
     curve = two_stage.curve_
     warnings, notes, importance = list(pairs.warnings), [], {}
     if curve.fit_.at_bound:
@@ -131,9 +151,6 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
         record["hammett"] = hammett_record(X, spec, barrier)
     joint = None
     if opts.family_column:
-        if opts.prediction_intervals != "model":
-            raise ValueError("--prediction-intervals jackknife+ is not available with --family yet: its refits know "
-                             "one curve, not each family's")
         joint, primary = _families(energy, barrier, pairs.families, record, primary, opts, notes)
     jackknife, record["intervals"] = prediction_intervals(X if has_x else None, energy, barrier, primary, record,
                                                           opts)
@@ -188,9 +205,6 @@ def prediction_intervals(X, energy, barrier, primary: str, record: dict, opts: F
     from ..estimators.jackknife import JackknifePlus
     from ..validation.conformal import coverage_by_regime, off_nominal
 
-    if opts.prediction_intervals not in INTERVAL_METHODS:
-        raise ValueError(f"--prediction-intervals {opts.prediction_intervals!r}: choose one of "
-                         f"{', '.join(INTERVAL_METHODS)}")
     route = primary if X is not None else "curve_on_true_energy"
     loo = record["validation"]["loo"]
     cover = (loo["routes"].get(route) or {}).get("pi90_coverage")
@@ -248,12 +262,12 @@ def fit_file(data, output, structure, tiers: str, opts: FitOptions, *, cache_dir
 
     spec = structure_spec(*structure)
     if spec.mode == "none" and tiers != "2d,table":
-        raise ValueError("--tiers needs a structure input (--substituents, --molecule, --reaction or --template)")
+        raise InputError("--tiers needs a structure input (--substituents, --molecule, --reaction or --template)")
     engine_cm = (descriptor_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent) if spec.mode != "none"
                  else contextlib.nullcontext(None))
     with engine_cm as engine:
         if engine is not None and not engine.tiers and not opts.extra_descriptors:
-            raise ValueError("--tiers none leaves no descriptors: add --extra-descriptors, or drop the structure "
+            raise InputError("--tiers none leaves no descriptors: add --extra-descriptors, or drop the structure "
                              "options for a curve-only model")
         model, record = fit_family(read_table(data), str(data), spec, engine, opts)
     modelfile.save(model.as_dict(), output)

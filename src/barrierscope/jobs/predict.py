@@ -78,9 +78,9 @@ def _families(chunk, model, status, kind):
         return None, None
     col = model.family_column
     if col not in chunk.columns:
-        from ..errors import InputError
+        from ..errors import DataError
 
-        raise InputError(f"the model fits several families: the library needs their column {col!r}")
+        raise DataError(f"the model fits several families: the library needs their column {col!r}")
     labels = chunk[col].astype(str).str.strip().to_numpy()
     codes = model.family_codes(labels)
     for i in np.flatnonzero(codes < 0):

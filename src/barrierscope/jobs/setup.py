@@ -7,14 +7,14 @@ import contextlib
 
 
 def structure_spec(substituents=None, molecule=None, core=None, reaction=None, template=None, multiplicity=None):
-    from ..structures.core import CoreError
+    """The structure options as an :class:`~barrierscope.structures.spec.InputSpec`; a
+    combination that cannot be used (or an unreadable core or template) names the options."""
     from ..structures.spec import make_spec
+    from .options import option
 
-    try:
+    with option("structure options (--substituents, --molecule, --core, --reaction, --template, --multiplicity)"):
         return make_spec(substituents=substituents, molecule=molecule, core=core, reaction=reaction,
                          template=template, multiplicity=multiplicity)
-    except CoreError as exc:
-        raise ValueError(str(exc)) from None
 
 
 def xtb_settings(level: str = "sp", solvent: str | None = None):
@@ -33,8 +33,12 @@ def descriptor_engine(tiers: str, cache_dir=None, workers: int = 1, scheduler: s
     from ..descriptors.tiers import DescriptorEngine, parse_tiers
     from .executors import make_executor
 
-    names = parse_tiers(tiers)
-    settings = xtb_settings(xtb_level, solvent)
+    from .options import at_least, one_of, option
+
+    with option("--tiers"):
+        names = parse_tiers(tiers)
+    settings = xtb_settings(one_of("--xtb-level", xtb_level, ("sp", "opt")), solvent)
+    at_least("--workers", workers, 1)
     executor = make_executor(workers=workers, scheduler=scheduler) if (workers > 1 or scheduler) else None
     try:
         yield DescriptorEngine(names, DescriptorCache(cache_dir if cache_dir is not None else "default"),

@@ -14,7 +14,9 @@ from ..estimators.design import GOALS, Candidates, energy_state, pick
 from ..io.modelfile import load_model
 from ..io.tables import read_table
 from .executors import cached_engine
+from .options import at_least, one_of
 from .predict import OK, ScreenOptions, predict_chunk
+from ..errors import DataError
 
 
 def _already_computed(model, frame, keys) -> np.ndarray:
@@ -59,10 +61,8 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
                  max_atoms: int = 200, model=None) -> dict:
     """Picks with scores and the facts behind them, plus what was left out and why.
     ``candidates_path`` is a table file, or a DataFrame as :func:`..io.tables.read_table` gives."""
-    if k < 1:
-        raise ValueError("-k must be at least 1")
-    if goal not in GOALS:
-        raise ValueError(f"unknown goal {goal!r}; valid choices: {', '.join(GOALS)}")
+    at_least("-k", k, 1)
+    goal = one_of("--goal", goal, GOALS)
     model = model if model is not None else load_model(model_path)
     if hasattr(candidates_path, "columns"):  # a DataFrame read with io.tables (it has the row column)
         table, candidates_path = candidates_path, "candidates"
@@ -79,7 +79,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
     done = ok & _already_computed(model, frame, None if res.block is None else res.block.keys)
     pool = ok & ~done
     if not pool.any():
-        raise ValueError(f"{candidates_path}: no candidate is left to suggest (none could be predicted, or every one "
+        raise DataError(f"{candidates_path}: no candidate is left to suggest (none could be predicted, or every one "
                          f"is already a training member); see their statuses with `screen`")
     idx = np.flatnonzero(pool)
     sub = frame.iloc[idx].reset_index(drop=True)

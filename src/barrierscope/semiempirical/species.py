@@ -69,5 +69,5 @@ def species_energy(smiles: str, settings: XtbSettings = XtbSettings(), uhf: int 
             best = min(best, e)
         if not np.isfinite(best):
             raise XtbError("every GFN2-xTB optimisation changed the bonding (the species rearranged); "
-                           "use --xtb-level sp or check the structure", "rearranged")
+                           "single points on the force-field geometry (level sp) avoid this; or check the structure", "rearranged")
     return {"energy": best * hartree, "n_conformers": float(len(ens.conformers))}

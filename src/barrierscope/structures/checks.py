@@ -91,7 +91,7 @@ def check_elements_and_size(mol: Chem.Mol, max_heavy_atoms: int = DEFAULT_MAX_HE
     heavy = mol.GetNumHeavyAtoms()
     if heavy > max_heavy_atoms:
         raise StructureError(f"{what} has {heavy} heavy atoms, above the limit of {max_heavy_atoms} "
-                             f"(raise it with --max-atoms)", "too_large")
+                             f"(max_atoms, which can be raised)", "too_large")
     if text is not None and _bracket_elements_ok(text):
         return
     for atom in mol.GetAtoms():

@@ -58,7 +58,7 @@ def _canonical_species(text: str, what: str, max_atoms: int, multiplicity: int |
     if multiplicity is None:
         if radicals:
             raise StructureError(f"{what} {Chem.MolToSmiles(mol)} is a radical (open shell); give its spin "
-                                 f"multiplicity with --multiplicity", "open_shell")
+                                 f"multiplicity (a multiplicity column laid out like the reaction)", "open_shell")
         multiplicity = 1
     elif multiplicity < 1 or (multiplicity - 1) % 2 != radicals % 2:
         raise StructureError(f"multiplicity {multiplicity} is impossible for {what} {Chem.MolToSmiles(mol)} "

@@ -55,25 +55,25 @@ def make_spec(substituents: str | None = None, molecule: str | None = None, core
               multiplicity: str | None = None) -> InputSpec:
     """The spec from command-line options; the error says which combinations are allowed."""
     subs = tuple(c.strip() for c in substituents.split(",") if c.strip()) if substituents else ()
-    given = [n for n, v in (("--substituents", subs), ("--molecule", molecule), ("--reaction", reaction)) if v]
+    given = [n for n, v in (("substituents", subs), ("molecule", molecule), ("reaction", reaction)) if v]
     if template and not subs:
-        raise ValueError("--template needs --substituents (the columns whose groups fill its attachment points)")
+        raise ValueError("a template needs substituents (the columns whose groups fill its attachment points)")
     if template:
         if molecule or reaction:
-            raise ValueError("--template goes with --substituents only")
+            raise ValueError("a template goes with substituents only")
         from .reaction import ReactionTemplate
 
         t = ReactionTemplate(template)
         if max(t.numbers) > len(subs):
-            raise ValueError(f"the template uses [*:{max(t.numbers)}] but --substituents names {len(subs)} column(s)")
+            raise ValueError(f"the template uses [*:{max(t.numbers)}] but substituents names {len(subs)} column(s)")
         return InputSpec("template", subs, template=template, positions=subs)
     if len(given) > 1:
         raise ValueError(f"give one structure input, not {' and '.join(given)}")
     if core and not molecule:
-        raise ValueError("--core needs --molecule (the column of whole molecules to cut at the core)")
+        raise ValueError("a core needs molecule (the column of whole molecules to cut at the core)")
     if subs:
         if len(set(subs)) != len(subs):
-            raise ValueError("--substituents names a column twice")
+            raise ValueError("substituents names a column twice")
         return InputSpec("substituents", subs, positions=subs)
     if molecule and core:
         from .core import CoreDecomposer
@@ -82,7 +82,7 @@ def make_spec(substituents: str | None = None, molecule: str | None = None, core
     if molecule:
         return InputSpec("molecule", (molecule,), positions=(molecule,))
     if multiplicity and not reaction:
-        raise ValueError("--multiplicity goes with --reaction")
+        raise ValueError("multiplicity goes with reaction")
     if reaction:
         return InputSpec("reaction", (reaction,), multiplicity=multiplicity)
     return InputSpec("none")

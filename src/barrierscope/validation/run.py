@@ -131,7 +131,7 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
     if opts.learner in SLOW_LEARNERS and shuffles > SLOW_SHUFFLES:
         shuffles = SLOW_SHUFFLES
         record["notes"].append(f"y-randomisation capped at {SLOW_SHUFFLES} shuffles for the {opts.learner} learner "
-                               f"(each shuffle refits it in every fold); --shuffles asked for {opts.n_shuffles}")
+                               f"(each shuffle refits it in every fold); {opts.n_shuffles} were asked for")
     if opts.learner == "forest":
         from ..estimators.learners import FOREST_TREES, REFIT_FOREST_TREES
 
