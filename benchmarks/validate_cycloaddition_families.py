@@ -82,7 +82,8 @@ def main() -> None:
     print("| --- " * 10 + "|")
     records = {}
     for label, share in SHARES:
-        rec, fit, _, _ = joint_record(x, y, labels, share=share)
+        record, fit, _, _ = joint_record(x, y, labels, share=share)
+        rec = record.as_dict()
         records[label] = rec
         t, loo, lofo = rec["sharing_test"], rec["validation"]["loo"]["routes"], rec["validation"]["leave_family_out"]
         print(f"| {label} | {fit.layout.size} | {_g(rec['sigma'])} | {_g(t['p'], 2)} | {_g(t['aicc_shared'], 5)} | "

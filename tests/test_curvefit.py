@@ -137,7 +137,7 @@ def test_narrow_span_is_called_not_identifiable_with_the_tangent():
     assert "not determined" in message and "tangent" in message
     # The tangent is what the data determine: the line's slope agrees with the truth's α there.
     true_alpha = 1 / (1 + np.exp(-(np.mean(x) - TRUTH[1]) / TRUTH[2]))
-    lo, hi = ident.tangent_alpha_ci95
+    lo, hi = ident.tangent.alpha_ci95
     assert lo < true_alpha < hi
 
 

@@ -65,7 +65,7 @@ def test_shared_width_is_recovered_with_narrower_intervals():
     for seed in range(8):
         x, y, lab = invented(seed)
         record, *_ = joint_record(x, y, lab, validate=False)
-        fams = record["families"]
+        fams = record.as_dict()["families"]
         lo, hi = fams["a"]["ci95"]["width"]
         covered += lo < 4.0 < hi                              # the true shared width
         alone = []
@@ -92,18 +92,18 @@ def test_the_sharing_test_rejects_widths_that_differ():
         record, *_ = joint_record(x, y, lab, validate=False)
     finally:
         SPEC.update(rng_spec)
-    t = record["sharing_test"]
-    assert t["p"] < 1e-3 and t["aicc_separate"] < t["aicc_shared"]
+    t = record.sharing_test
+    assert t.p < 1e-3 and t.aicc_separate < t.aicc_shared
 
 
 def test_validation_by_member_and_by_family():
     x, y, lab = invented(0)
     record, *_ = joint_record(x, y, lab)
-    loo = record["validation"]["loo"]
-    assert loo["n_test"] == 60 and loo["routes"]["joint"]["mae"] < loo["routes"]["family_mean"]["mae"]
-    assert loo["routes"]["joint"]["mae"] <= loo["routes"]["separate"]["mae"] * 1.05
-    lofo = record["validation"]["leave_family_out"]
-    assert "family_mean" in lofo["joint_beats"] and "not predictable" in lofo["note"]
+    loo = record.validation["loo"]
+    assert loo.n_test == 60 and loo.routes["joint"].mae < loo.routes["family_mean"].mae
+    assert loo.routes["joint"].mae <= loo.routes["separate"].mae * 1.05
+    lofo = record.validation["leave_family_out"]
+    assert "family_mean" in lofo.joint_beats and "not predictable" in lofo.note
 
 
 def test_share_choices_and_sizes():

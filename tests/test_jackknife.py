@@ -59,7 +59,7 @@ def test_coverage_near_nominal_on_invented_families():
     for seed in range(4):
         X, energy, barrier = invented_family(30, seed)
         c = jackknife_coverage(X, energy, barrier, loo_splits(30), ("two_stage",))
-        cover.append(c["two_stage"]["coverage"])
+        cover.append(c["two_stage"].coverage)
     assert 0.80 <= np.mean(cover) <= 0.98, cover
 
 

@@ -94,7 +94,7 @@ def test_schema_is_checked_even_with_a_valid_checksum(fitted, tmp_path):
 
 
 def test_summary_contract(fitted):
-    _, s, _ = fitted
+    s = fitted[1].as_dict()
     assert set(s["energy_stage"]) >= {"mae", "rmse", "r2"}
     for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy"):
         assert set(s["routes"][r]) >= {"mae", "rmse", "r2", "pi90_coverage"}

@@ -13,6 +13,7 @@ from barrierscope.io.tables import read_table
 from barrierscope.jobs.fit import FitOptions, fit_family
 from barrierscope.structures.spec import make_spec
 from barrierscope.jobs.report import write_report
+from barrierscope.records import replace
 
 NASTY = '<script>alert("x")</script>&"\''
 
@@ -25,7 +26,7 @@ def report(tmp_path_factory):
     df.to_csv(folder / "fam.csv", index=False)
     model, summary = fit_family(read_table(folder / "fam.csv"), str(folder / NASTY), make_spec(substituents="R1,R2"),
                                 DescriptorEngine(("2d", "table")), FitOptions("dE", "dG", n_shuffles=1))
-    summary["warnings"].append(f"a warning quoting {NASTY}")
+    summary = replace(summary, warnings=[*summary.warnings, f"a warning quoting {NASTY}"])
     path = folder / "report.html"
     text = write_report(model, summary, path, folder / "figs", source=NASTY)
     return path, text

@@ -76,8 +76,8 @@ def test_two_stage_beats_direct_at_small_n_and_intervals_cover():
         res = out_of_fold(X, energy, barrier, loo_splits(24))
         ts = metrics(barrier, res.pred["two_stage"], res.low["two_stage"], res.high["two_stage"])
         di = metrics(barrier, res.pred["direct"], res.low["direct"], res.high["direct"])
-        wins.append(ts["mae"] < di["mae"])
-        coverage.append(ts["pi90_coverage"])
+        wins.append(ts.mae < di.mae)
+        coverage.append(ts.pi90_coverage)
     assert sum(wins) >= 4, wins
     # 5 × 24 = 120 intervals: binomial SE of 90 % coverage is 2.7 %; allow 0.80–0.98.
     assert 0.80 <= np.mean(coverage) <= 0.98, coverage
@@ -88,9 +88,9 @@ def test_paired_comparison_against_scipy():
     a = rng.normal(0.0, 1.0, 30)
     b = np.sign(a) * (np.abs(a) + np.abs(rng.normal(0.5, 0.3, 30)))
     c = paired_comparison(a, b)
-    assert c["delta_mae"] == pytest.approx(np.mean(np.abs(a) - np.abs(b)))
-    assert c["ci95"][0] < c["delta_mae"] < c["ci95"][1] < 0
-    assert c["wilcoxon_p"] == pytest.approx(stats.wilcoxon(np.abs(a), np.abs(b)).pvalue)
+    assert c.delta_mae == pytest.approx(np.mean(np.abs(a) - np.abs(b)))
+    assert c.ci95[0] < c.delta_mae < c.ci95[1] < 0
+    assert c.wilcoxon_p == pytest.approx(stats.wilcoxon(np.abs(a), np.abs(b)).pvalue)
     assert beats(c) and not beats(paired_comparison(b, a))
 
 
@@ -122,7 +122,7 @@ def test_curve_only_validation():
     barrier = ASYM.barrier(energy, np.array([4.0, -6.0, 4.0])) + rng.normal(0, 0.7, 20)
     res = out_of_fold(None, energy, barrier, loo_splits(20))
     assert set(res.pred) == {"curve_on_true_energy", "family_mean"}
-    assert metrics(barrier, res.pred["curve_on_true_energy"])["mae"] < 1.0
+    assert metrics(barrier, res.pred["curve_on_true_energy"]).mae < 1.0
 
 
 def test_wilcoxon_matches_scipy_including_ties_and_zeros():
@@ -178,28 +178,29 @@ def test_downhill_favours_the_physics_route_when_the_black_box_must_extrapolate(
     X, energy, barrier = _curved_family(32, seed)
     record = validate(X, energy, barrier, [f"m{i}" for i in range(32)],
                       ValidationOptions(n_shuffles=0, regimes=("loo", "downhill")))
-    down = record["validation"]["downhill"]
-    assert down["n_test"] == 8
-    assert down["winner"] in ("two_stage", "hybrid", "tie")
+    down = record.validation["downhill"]
+    assert down.n_test == 8
+    assert down.winner in ("two_stage", "hybrid", "tie")
     physics = {"two_stage", "hybrid"}
-    assert (down["winner"] in physics) or (set(down["tied"]) <= physics and "direct" in down["leader_beats"])
-    assert beats(down["pairs"]["two_stage_vs_direct"])
-    assert down["routes"]["two_stage"]["mae"] < 0.5 * down["routes"]["direct"]["mae"]
+    assert (down.winner in physics) or (set(down.tied) <= physics and "direct" in down.leader_beats)
+    assert beats(down.pairs["two_stage_vs_direct"])
+    assert down.routes["two_stage"].mae < 0.5 * down.routes["direct"].mae
 
 
 def test_the_verdict_says_so_when_the_barrier_does_not_follow_the_reaction_energy():
     from barrierscope.validation.run import ValidationOptions, validate
+    from barrierscope.records import in_unit
     from barrierscope.views.verdict import verdict_text
 
     X, energy, barrier = _curved_family(30, 0, barrier_follows_energy=False)
     record = validate(X, energy, barrier, [f"m{i}" for i in range(30)],
                       ValidationOptions(n_shuffles=0, regimes=("loo",)))
-    assert record["validation"]["loo"]["curve_beats_mean"] is False
-    text = verdict_text(record, "kcal/mol")
+    assert record.validation["loo"].curve_beats_mean is False
+    text = verdict_text(in_unit(record, "kcal/mol"), "kcal/mol")
     assert "does not follow the reaction energy" in text and "weak link" not in text
     # ... and does not say it when the barrier does follow the energy.
     X, energy, barrier = _curved_family(30, 0)
     record = validate(X, energy, barrier, [f"m{i}" for i in range(30)],
                       ValidationOptions(n_shuffles=0, regimes=("loo",)))
-    assert record["validation"]["loo"]["curve_beats_mean"] is True
-    assert "does not follow" not in verdict_text(record, "kcal/mol")
+    assert record.validation["loo"].curve_beats_mean is True
+    assert "does not follow" not in verdict_text(in_unit(record, "kcal/mol"), "kcal/mol")

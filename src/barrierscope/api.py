@@ -46,7 +46,7 @@ class Family:
     """A fitted, validated family: the model and its validation record (kcal/mol inside)."""
 
     model: object
-    record: dict
+    record: object        # a FitRecord (barrierscope.jobs.records), kcal/mol
 
     @property
     def units(self) -> str:
@@ -76,7 +76,7 @@ class Family:
         from .views.units import in_unit
 
         rows = []
-        for regime, v in in_unit(self.record["validation"], self.units).items():
+        for regime, v in in_unit(self.record, self.units)["validation"].items():
             for route, m in (v.get("routes") or {}).items():
                 rows.append({"regime": regime, "route": route, "n_test": v["n_test"], "mae": m["mae"],
                              "rmse": m["rmse"], "coverage90": m.get("pi90_coverage"), "winner": v["winner"]})
@@ -90,7 +90,7 @@ class Family:
 
         comparison = (compare_relations(self.model.training["energy"], self.model.training["barrier"])
                       if relations else None)
-        return draw_curve(ax, self.model, self.units, comparison, None if picks is None else picks["picks"])
+        return draw_curve(ax, self.model, self.units, comparison, None if picks is None else picks.picks)
 
     def screen(self, library, energy: str | None = None, energy_units: str | None = None,
                temperature="298.15K", transmission: float = 1.0, id_column: str | None = None,

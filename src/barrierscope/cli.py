@@ -175,16 +175,16 @@ def curve(data: Path = typer.Argument(..., help="Table with one row per member (
         from .views.families_text import families_json, format_families
 
         record = families_file(data, energy, barrier, family, share, units, kind, id_column, skip_bad_rows, figure)
-        warn(record["warnings"])
-        shown = families_json(record, record["units"])
+        warn(record.warnings)
+        shown = families_json(record, record.units)
         print_json(shown) if as_json else typer.echo(format_families(shown))
         return
     from .jobs.curve import curve_file
     from .views.curve_text import curve_json, format_curve
 
     record = curve_file(data, energy, barrier, units, kind, id_column, loss, intervals, n_bootstrap, skip_bad_rows)
-    warn(record["warnings"])
-    shown = curve_json(record, record["units"])
+    warn(record.warnings)
+    shown = curve_json(record, record.units)
     if as_json:
         print_json(shown)
     else:
@@ -258,7 +258,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
     model, record = fit_file(data, output, (substituents, molecule, core, reaction, template, multiplicity), tiers,
                              opts, cache_dir=cache_dir, workers=workers, scheduler=scheduler, xtb_level=xtb_level,
                              solvent=solvent, members=members, report=report, figures=figures)
-    warn(record["warnings"])
+    warn(record.warnings)
     if as_json:
         print_json(fit_json(record, model.tiers))
     else:
@@ -306,11 +306,9 @@ def screen(model: Path = typer.Argument(..., help="Model file written by `barrie
         from .io.modelfile import load_model
         from .jobs.report import write_report
 
-        write_report(load_model(model), path=report, source=str(library), screen=summary.as_dict())
+        write_report(load_model(model), path=report, source=str(library), screen=summary)
     if not quiet:
-        shown = summary.as_dict()
-        shown["top"] = shown["top"][:top]
-        typer.echo(format_screen(shown, summary.units, summary.energy_kind) +
+        typer.echo(format_screen(summary, summary.units, summary.energy_kind, top=top) +
                    (f"\nreport written to {report}" if report else ""), err=True)
 
 

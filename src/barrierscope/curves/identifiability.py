@@ -11,50 +11,13 @@ test is approximate) says whether the curvature rises above the noise.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 from scipy import special
 
 from ..relations import LinearRelation
 from .fit import RelationFit, fit_relation
 from .intervals import ProfileInterval, t_quantile
-
-
-@dataclass
-class Identifiability:
-    identifiable: bool
-    span: float                 # kcal/mol
-    width: float                # kcal/mol
-    span_over_width: float
-    unpinned: tuple[str, ...]   # parameters whose interval runs to a search bound
-    curvature_p: float          # F-test p of the curve against the line
-    tangent_center: float       # kcal/mol, mean reaction energy
-    tangent_barrier: float      # kcal/mol, tangent's barrier at the centre
-    tangent_alpha: float
-    tangent_alpha_ci95: tuple[float, float]
-
-    def as_dict(self) -> dict:
-        """JSON-ready verdict (energies in kcal/mol); the words are written by the views."""
-        return {
-            "identifiable": self.identifiable,
-            "span": self.span,
-            "width": self.width,
-            "span_over_width": self.span_over_width,
-            "unpinned": list(self.unpinned),
-            "curvature_p": self.curvature_p,
-            "tangent": {"center": self.tangent_center, "barrier_at_center": self.tangent_barrier,
-                        "alpha": self.tangent_alpha, "alpha_ci95": list(self.tangent_alpha_ci95)},
-        }
-
-    @classmethod
-    def from_dict(cls, d: dict) -> "Identifiability":
-        t = d["tangent"]
-        return cls(identifiable=bool(d["identifiable"]), span=float(d["span"]), width=float(d["width"]),
-                   span_over_width=float(d["span_over_width"]), unpinned=tuple(d["unpinned"]),
-                   curvature_p=float(d["curvature_p"]), tangent_center=float(t["center"]),
-                   tangent_barrier=float(t["barrier_at_center"]), tangent_alpha=float(t["alpha"]),
-                   tangent_alpha_ci95=tuple(t["alpha_ci95"]))
+from .records import Identifiability, Tangent
 
 
 def assess_identifiability(fit: RelationFit, energy, barrier,
@@ -85,7 +48,8 @@ def assess_identifiability(fit: RelationFit, energy, barrier,
         p = 1.0
 
     identifiable = not unpinned_t and fit.success
-    return Identifiability(identifiable=identifiable, span=span, width=width,
+    return Identifiability(identifiable=bool(identifiable), span=span, width=width,
                            span_over_width=span / width if width > 0 else float("inf"),
-                           unpinned=unpinned_t, curvature_p=p, tangent_center=center,
-                           tangent_barrier=barrier_c, tangent_alpha=alpha, tangent_alpha_ci95=alpha_ci)
+                           unpinned=list(unpinned_t), curvature_p=p,
+                           tangent=Tangent(center=center, barrier_at_center=barrier_c, alpha=alpha,
+                                           alpha_ci95=list(alpha_ci)))

@@ -26,6 +26,7 @@ from scipy import optimize, special
 from ..relations.base import Relation
 from .batch import interior
 from .fit import FitError, covariance, fit_relation
+from .records import SharingTest
 from .stats import aicc, at_bound, predictive_variance
 
 
@@ -256,17 +257,16 @@ def _starts(rel, layout, x, y, fam, separate) -> list[np.ndarray]:
     return [layout.pack(own), layout.pack(np.tile(pooled, (layout.n_families, 1)))]
 
 
-def sharing_test(joint: JointFit, separate: list) -> dict:
+def sharing_test(joint: JointFit, separate: list) -> SharingTest:
     """Shared against separate: likelihood ratio, its χ² p, and AICc of both (see the module
     docstring); ``p`` is None when a family is too small for a fit of its own."""
     if any(f is None for f in separate) or not joint.layout.shared:
-        return {"p": None, "lr": None, "df": 0, "aicc_shared": aicc(joint.rss, joint.n, joint.layout.size + 1),
-                "aicc_separate": None, "approximate": False}
+        return SharingTest(p=None, lr=None, df=0, aicc_shared=aicc(joint.rss, joint.n, joint.layout.size + 1),
+                           aicc_separate=None, approximate=False)
     rss_sep = float(sum(f.rss for f in separate))
     k_sep = sum(f.relation.n_params for f in separate)
     df = k_sep - joint.layout.size
     lr = max(joint.n * float(np.log(joint.rss / rss_sep)), 0.0) if rss_sep > 0 else float("inf")
-    return {"p": float(special.chdtrc(df, lr)), "lr": lr, "df": int(df),
-            "aicc_shared": aicc(joint.rss, joint.n, joint.layout.size + 1),
-            "aicc_separate": aicc(rss_sep, joint.n, k_sep + 1),
-            "approximate": any(f.at_bound for f in separate)}
+    return SharingTest(p=float(special.chdtrc(df, lr)), lr=lr, df=int(df),
+                       aicc_shared=aicc(joint.rss, joint.n, joint.layout.size + 1),
+                       aicc_separate=aicc(rss_sep, joint.n, k_sep + 1), approximate=any(f.at_bound for f in separate))

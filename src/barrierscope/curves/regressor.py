@@ -15,7 +15,8 @@ from ..estimators.base import RegressorProtocol, check_fitted, select_column
 from ..relations import DEFAULT_RELATION, get_relation
 from .compare import compare_relations
 from .fit import check_pairs, fit_relation, loss_name
-from .identifiability import Identifiability, assess_identifiability
+from .identifiability import assess_identifiability
+from .records import CurveRecord, Identifiability
 from .stats import predictive_variance
 from .intervals import bootstrap_intervals, correlation_matrix, profile_intervals, t_quantile, wald_intervals
 
@@ -195,24 +196,25 @@ class CurveRegressor(RegressorProtocol):
         return self.relation_.derived(self.params_)
 
     # -- persistence ----------------------------------------------------------------------
-    def as_dict(self) -> dict:
-        """Everything needed to predict, as plain numbers (kcal/mol)."""
+    def record(self) -> CurveRecord:
+        """The fitted curve as a typed record (kcal/mol): everything needed to predict, and what
+        a chemist reads off it."""
         check_fitted(self, "params_")
-        out = {
-            "relation": self.relation_.name, "requested_relation": self.relation, "loss": self.loss,
-            "params": self.params_dict(), "theta": [float(v) for v in self.params_],
-            "cov": np.asarray(self.cov_, dtype=float).tolist(), "sigma": float(self.sigma_),
-            "dof": int(self.dof_), "n_train": int(self.n_train_), "energy_range": list(self.energy_range_),
-            "correlation": np.asarray(self.correlation_, dtype=float).tolist(),
-            "ci95": {k: [float(a), float(b)] for k, (a, b) in self.ci_.items()},
-            "ci95_open": {k: [bool(a), bool(b)] for k, (a, b) in self.ci_open_.items()},
-            "derived": self.derived(), "intervals": self.intervals,
-        }
-        if self.identifiability_ is not None:
-            out["identifiability"] = self.identifiability_.as_dict()
-        if self.relation_.name == "asymptotic":
-            out["reverse"] = self.reverse_params()
-        return out
+        asym = self.relation_.name == "asymptotic"
+        return CurveRecord(
+            relation=self.relation_.name, requested_relation=self.relation, loss=self.loss,
+            params=self.params_dict(), theta=[float(v) for v in self.params_],
+            cov=np.asarray(self.cov_, dtype=float).tolist(), sigma=float(self.sigma_), dof=int(self.dof_),
+            n_train=int(self.n_train_), energy_range=list(self.energy_range_),
+            correlation=np.asarray(self.correlation_, dtype=float).tolist(),
+            ci95={k: [float(a), float(b)] for k, (a, b) in self.ci_.items()},
+            ci95_open={k: [bool(a), bool(b)] for k, (a, b) in self.ci_open_.items()},
+            derived=self.derived(), intervals=self.intervals, identifiability=self.identifiability_,
+            reverse=self.reverse_params() if asym else None)
+
+    def as_dict(self) -> dict:
+        """:meth:`record` as plain data (the model file's curve)."""
+        return self.record().as_dict()
 
     @classmethod
     def from_dict(cls, d: dict) -> "CurveRegressor":

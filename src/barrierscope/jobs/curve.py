@@ -14,49 +14,52 @@ import numpy as np
 
 from ..curves.compare import BEST_BY, compare_relations
 from ..curves.fit import FitError, loss_name
+from ..curves.records import AsymptoticSummary, CurveComparison, RelationEntry, SkippedRow
 from ..curves.regressor import CurveRegressor
+from ..records import replace
+from .records import JointRecord
 from ..errors import DataError, FitRefused
 from .options import at_least, one_of, option
 from ..relations import RELATIONS
 
 
-def compare_curves(energy, barrier, energy_kind: str = "free-energy", loss: str = "squared",
-                   intervals: str = "profile", n_bootstrap: int = 1000, level: float = 0.95) -> dict:
-    """The comparison record (kcal/mol)."""
+def _entry(name: str, score) -> RelationEntry:
+    rel = RELATIONS[name]()
+    if score.fit is None:
+        return RelationEntry(label=rel.label, skipped=score.skipped)
+    return RelationEntry(label=rel.label, params=score.fit.params_dict(), derived=rel.derived(score.fit.params),
+                         loo_mae=score.loo_mae, loo_rmse=score.loo_rmse, rmse=score.rmse, mae=score.mae,
+                         aicc=score.aicc, bic=score.bic, n_outside_validity=score.n_outside_validity,
+                         at_bound=list(score.fit.at_bound))
+
+
+def compare_curves(energy, barrier, energy_kind: str = "free-energy", loss: str = "squared", *,
+                   intervals: str = "profile", n_bootstrap: int = 1000, level: float = 0.95,
+                   **context) -> CurveComparison:
+    """Every relation on the pairs, the asymptotic curve with intervals and its verdict (kcal/mol);
+    ``context``: the record's other fields (columns, unit, warnings, skipped rows)."""
     x = np.asarray(energy, dtype=float)
     y = np.asarray(barrier, dtype=float)
     comp = compare_relations(x, y, loss=loss_name(loss))
-    out: dict = {"n": comp.n, "energy_kind": energy_kind, "energy_range": [float(np.min(x)), float(np.max(x))],
-                 "relations": {}, "best": comp.best, "best_by": BEST_BY, "loss": loss}
-    for name, score in comp.scores.items():
-        rel = RELATIONS[name]()
-        entry: dict = {"label": rel.label}
-        if score.fit is None:
-            entry["skipped"] = score.skipped
-        else:
-            entry.update({"params": score.fit.params_dict(), "derived": rel.derived(score.fit.params),
-                          "loo_mae": score.loo_mae, "loo_rmse": score.loo_rmse, "rmse": score.rmse, "mae": score.mae,
-                          "aicc": score.aicc, "bic": score.bic, "n_outside_validity": score.n_outside_validity,
-                          "at_bound": list(score.fit.at_bound)})
-        out["relations"][name] = entry
-    if "params" in out["relations"].get("asymptotic", {}):
+    entries = {name: _entry(name, score) for name, score in comp.scores.items()}
+    summary = None
+    if entries.get("asymptotic") is not None and entries["asymptotic"].params is not None:
         curve = CurveRegressor("asymptotic", loss=loss, intervals=intervals, n_bootstrap=n_bootstrap,
                                level=level).fit(x, y)
-        a = out["relations"]["asymptotic"]
-        a["interval_method"] = "wald" if (intervals == "profile" and loss != "squared") else intervals
-        a["ci95"] = {k: [lo, hi] for k, (lo, hi) in curve.ci_.items()}
-        if curve.ci_open_:
-            a["ci95_open"] = {k: list(v) for k, v in curve.ci_open_.items()}
-        a["correlation"] = curve.correlation_.round(6).tolist()
-        a["reverse"] = curve.reverse_params()
         ident = curve.identifiability_
-        a["identifiable"] = None if ident is None else bool(ident.identifiable)
-        if ident is not None:
-            a["identifiability"] = ident.as_dict()
-            a["alpha_members"] = curve.slope(x).tolist()
+        a = replace(entries["asymptotic"], interval_method="wald" if (intervals == "profile" and loss != "squared")
+                    else intervals, ci95={k: [lo, hi] for k, (lo, hi) in curve.ci_.items()},
+                    ci95_open={k: list(v) for k, v in curve.ci_open_.items()} or None,
+                    correlation=curve.correlation_.round(6).tolist(), reverse=curve.reverse_params(),
+                    identifiable=None if ident is None else bool(ident.identifiable), identifiability=ident,
+                    alpha_members=None if ident is None else curve.slope(x).tolist())
+        entries["asymptotic"] = a
         # The asymptotic curve's verdict also at the top level (`asymptotic.ci95`, `asymptotic.identifiable`).
-        out["asymptotic"] = {k: a[k] for k in ("params", "ci95", "identifiable", "derived", "reverse") if k in a}
-    return out
+        summary = AsymptoticSummary(params=a.params, ci95=a.ci95, identifiable=a.identifiable, derived=a.derived,
+                                    reverse=a.reverse)
+    return CurveComparison(n=comp.n, energy_kind=energy_kind, energy_range=[float(np.min(x)), float(np.max(x))],
+                           relations=entries, best=comp.best, best_by=BEST_BY, loss=loss, asymptotic=summary,
+                           **context)
 
 
 def curve_options(units: str, kind: str) -> tuple[str, str]:
@@ -82,7 +85,7 @@ def refused():
 
 def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: str = "free-energy",
                id_column: str | None = None, loss: str = "squared", intervals: str = "profile",
-               n_bootstrap: int = 1000, skip_bad_rows: bool = False) -> dict:
+               n_bootstrap: int = 1000, skip_bad_rows: bool = False) -> CurveComparison:
     """The comparison record of a table's pairs, with the warnings and skipped rows (kcal/mol)."""
     from ..io.pairs import load_pairs, require_members
     from ..io.tables import read_table
@@ -95,17 +98,15 @@ def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: s
     pairs = load_pairs(read_table(data), str(data), energy, barrier, unit, id_col=id_column, skip_bad_rows=skip_bad_rows)
     require_members(pairs.n, 4, "comparing the relations with leave-one-out")
     with refused():
-        record = compare_curves(pairs.energy, pairs.barrier, energy_kind=energy_kind, loss=loss,
-                                intervals=intervals, n_bootstrap=n_bootstrap)
-    record.update({"energy_column": energy, "barrier_column": barrier, "warnings": pairs.warnings, "units": unit,
-                   "skipped": [{"row": p.row, "id": p.ident, "problem": p.message}
-                                             for p in pairs.skipped]})
-    return record
+        return compare_curves(pairs.energy, pairs.barrier, energy_kind=energy_kind, loss=loss, intervals=intervals,
+                              n_bootstrap=n_bootstrap, energy_column=energy, barrier_column=barrier,
+                              warnings=pairs.warnings, units=unit,
+                              skipped=[SkippedRow(row=p.row, id=p.ident, problem=p.message) for p in pairs.skipped])
 
 
 def families_file(data, energy: str, barrier: str, family: str, share: str | None = None, units: str = "kcal/mol",
                   kind: str = "free-energy", id_column: str | None = None, skip_bad_rows: bool = False,
-                  figure=None) -> dict:
+                  figure=None) -> JointRecord:
     """The joint record of every family in a table (kcal/mol); each family's rows are checked
     as one family (the same id may recur in different families: the same substrate with
     another reagent)."""
@@ -130,12 +131,13 @@ def families_file(data, energy: str, barrier: str, family: str, share: str | Non
         warnings += [f"family {name}: {w}" for w in pairs.warnings]
         skipped += [f"family {name}: {p}" for p in pairs.skipped]
     with refused():
-        record, fit, fam, names = joint_record(np.array(x), np.array(y), fam_labels, share=parse_share(share))
-    record.update({"energy_kind": energy_kind, "units": unit, "family_column": family, "warnings": warnings,
-                   "skipped": skipped})
+        record, fit, fam, names = joint_record(np.array(x), np.array(y), fam_labels, share=parse_share(share),
+                                               energy_kind=energy_kind, units=unit, family_column=family,
+                                               warnings=warnings, skipped=skipped)
     if figure is not None:
         from ..io.atomic import write_bytes_atomic
         from ..views.figures import families_png
 
-        write_bytes_atomic(figure, families_png(record, np.array(x), np.array(y), fam, names, unit))
+        write_bytes_atomic(figure, families_png(record.families, record.relation, record.shared, np.array(x),
+                                                np.array(y), fam, names, unit))
     return record

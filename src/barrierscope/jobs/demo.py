@@ -52,7 +52,7 @@ def run_demo(out: str | Path = "barrierscope-demo", cache_dir="default", k: int 
 
     screen = run_screen(model_path, library_path, out / "screen.csv",
                         ScreenOptions(energy_column="dG_r_computed", cache_dir=cache_dir),
-                        executor=SerialExecutor(), top=10, progress=False).as_dict()
+                        executor=SerialExecutor(), top=10, progress=False)
     advice = suggest_file(model_path, library_path, k, "parameters", energy_column="dG_r_computed",
                           cache_dir=cache_dir, model=model)
     write_text_atomic(out / "suggestions.json", _json(suggest_json(advice)))

@@ -23,8 +23,10 @@ from ..errors import FitRefused, InputError
 from ..curves.intervals import profile_intervals
 from ..curves.joint import fit_joint, separate_fits, sharing_test
 from ..curves.joint_intervals import derived_with_intervals, joint_profile_intervals
+from ..curves.records import FamilyEntry, SeparateFit
 from ..relations import get_relation
 from ..validation.metrics import beats, metrics, paired_comparison
+from .records import FamilyRegime, JointRecord
 
 SHARE_CHOICES = "none, or a comma list of parameter names (floor, midpoint, width for the asymptotic curve)"
 
@@ -76,32 +78,34 @@ def family_codes(labels) -> tuple[np.ndarray, list[str]]:
     return np.array([index[v] for v in labels], dtype=int), names
 
 
-def _family_entry(fit, k, prof, sep, x, y, fam, level) -> dict:
+def _family_entry(fit, k, prof, sep, x, y, fam, level) -> FamilyEntry:
     rel, layout = fit.relation, fit.layout
     sel = fam == k
     centre = float(0.5 * (x[sel].min() + x[sel].max()))
     derived, derived_ci = derived_with_intervals(fit, k, centre, level)
     params = rel.as_dict(fit.theta[k])
-    entry = {"n": int(sel.sum()), "params": params,
-             "ci95": {n: [prof[layout.index(k, j)].low, prof[layout.index(k, j)].high] for j, n in enumerate(params)},
-             "ci95_open": {n: [prof[layout.index(k, j)].low_open, prof[layout.index(k, j)].high_open]
-                           for j, n in enumerate(params)},
-             "derived": derived, "derived_ci95": derived_ci, "centre": centre,
-             "energy_range": [float(x[sel].min()), float(x[sel].max())]}
+    separate = None
     if sep is not None:
         ci = profile_intervals(sep, x[sel], y[sel], level)
-        entry["separate"] = {"params": sep.params_dict(), "ci95": {n: [c.low, c.high] for n, c in ci.items()},
-                             "ci95_open": {n: [c.low_open, c.high_open] for n, c in ci.items()},
-                             "at_bound": list(sep.at_bound)}
-    return entry
+        separate = SeparateFit(params=sep.params_dict(), ci95={n: [c.low, c.high] for n, c in ci.items()},
+                               ci95_open={n: [c.low_open, c.high_open] for n, c in ci.items()},
+                               at_bound=list(sep.at_bound))
+    return FamilyEntry(
+        n=int(sel.sum()), params=params,
+        ci95={n: [prof[layout.index(k, j)].low, prof[layout.index(k, j)].high] for j, n in enumerate(params)},
+        ci95_open={n: [prof[layout.index(k, j)].low_open, prof[layout.index(k, j)].high_open]
+                   for j, n in enumerate(params)},
+        derived=derived, derived_ci95=derived_ci, centre=centre,
+        energy_range=[float(x[sel].min()), float(x[sel].max())], separate=separate)
 
 
-def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("width",), level: float = 0.95,
-                 validate: bool = True, energy_pred=None):
-    """(record, JointFit, family codes, family names). The record: ``families`` {name: {n,
-    params, ci95, ...}}, ``shared``, ``sharing_test`` {p, aicc_shared, aicc_separate, ...} and
-    ``validation``; with ``energy_pred`` (each member's leave-one-out predicted reaction
-    energy) the member validation also scores the two-stage route through the joint curves."""
+def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("width",), *, level: float = 0.95,
+                 validate: bool = True, energy_pred=None, **context):
+    """(JointRecord, JointFit, family codes, family names). The record: ``families`` {name:
+    FamilyEntry}, ``shared``, ``sharing_test`` and ``validation``; with ``energy_pred`` (each
+    member's leave-one-out predicted reaction energy) the member validation also scores the
+    two-stage route through the joint curves; ``context``: the record's other fields (units,
+    energy kind, family column, warnings, skipped rows)."""
     x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
     fam, names = family_codes(labels)
     if len(names) < 2:
@@ -110,26 +114,26 @@ def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("
     separate = separate_fits(rel, x, y, fam, len(names))
     fit = fit_joint(rel, x, y, fam, len(names), share, separate)
     prof = joint_profile_intervals(fit, x, y, fam, level)
-    record = {"relation": rel.name, "n": int(x.size), "shared": list(fit.layout.shared),
-              "sharing_test": sharing_test(fit, separate), "sigma": fit.sigma, "at_bound": list(fit.at_bound),
-              "families": {n: _family_entry(fit, k, prof, separate[k], x, y, fam, level) for k, n in enumerate(names)},
-              "too_small_alone": [names[k] for k, s in enumerate(separate) if s is None]}
-    if validate:
-        record["validation"] = {"loo": member_loo(fit, x, y, fam, separate, energy_pred),
-                                "leave_family_out": leave_family_out(fit, x, y, fam, names)}
+    validation = ({"loo": member_loo(fit, x, y, fam, separate, energy_pred),
+                   "leave_family_out": leave_family_out(fit, x, y, fam, names)} if validate else {})
+    record = JointRecord(
+        relation=rel.name, n=int(x.size), shared=list(fit.layout.shared), sharing_test=sharing_test(fit, separate),
+        sigma=fit.sigma, at_bound=list(fit.at_bound),
+        families={n: _family_entry(fit, k, prof, separate[k], x, y, fam, level) for k, n in enumerate(names)},
+        too_small_alone=[names[k] for k, s in enumerate(separate) if s is None], validation=validation, **context)
     return record, fit, fam, names
 
 
-def _scores(y, preds: dict, base: str = "joint") -> dict:
+def _scores(y, preds: dict, base: str = "joint", note: str = "") -> FamilyRegime:
     routes = {r: metrics(y, p) for r, p in preds.items()}
     ok = np.all([np.isfinite(p) for p in preds.values()], axis=0)
     pairs = {f"{base}_vs_{r}": paired_comparison(preds[base][ok] - y[ok], preds[r][ok] - y[ok])
              for r in preds if r != base and ok.sum() >= 3}
-    return {"n_test": int(ok.sum()), "routes": routes, "pairs": pairs,
-            "joint_beats": [k.split("_vs_")[1] for k, c in pairs.items() if beats(c)]}
+    return FamilyRegime(n_test=int(ok.sum()), routes=routes, pairs=pairs, note=note,
+                        joint_beats=[k.split("_vs_")[1] for k, c in pairs.items() if beats(c)])
 
 
-def member_loo(fit, x, y, fam, separate, energy_pred=None) -> dict:
+def member_loo(fit, x, y, fam, separate, energy_pred=None) -> FamilyRegime:
     """Leave-one-out by member: joint, separate, pooled and family-mean predictions (and the
     two-stage route through the joint curves, from ``energy_pred``)."""
     n, own = x.size, len(fit.layout.own_idx)
@@ -158,11 +162,11 @@ def member_loo(fit, x, y, fam, separate, energy_pred=None) -> dict:
     return _scores(y, preds)
 
 
-def leave_family_out(fit, x, y, fam, names) -> dict:
+def leave_family_out(fit, x, y, fam, names) -> FamilyRegime:
     """Each family predicted from the others (see the module docstring)."""
     K = fit.layout.n_families
     if K < 3:
-        return {"skipped": f"{K} families: holding one out leaves one, so nothing is shared (needs 3 or more)"}
+        return FamilyRegime(skipped=f"{K} families: holding one out leaves one, so nothing is shared (needs 3 or more)")
     rel = fit.relation
     preds = {r: np.full(x.size, np.nan) for r in ("joint", "pooled", "family_mean")}
     for k in range(K):
@@ -177,7 +181,6 @@ def leave_family_out(fit, x, y, fam, names) -> dict:
         preds["joint"][test] = rel.barrier(x[test], typical)
         preds["pooled"][test] = rel.barrier(x[test], fit_relation(rel, x[train], y[train]).params)
         preds["family_mean"][test] = y[train].mean()
-    out = _scores(y, preds)
-    out["note"] = ("a held-out family takes the shared parameters and the other families' average for its own; its "
-                   "own floor and midpoint are not predictable from the others: compute a few of its members")
-    return out
+    return _scores(y, preds, note="a held-out family takes the shared parameters and the other families' average for "
+                                  "its own; its own floor and midpoint are not predictable from the others: compute a "
+                                  "few of its members")

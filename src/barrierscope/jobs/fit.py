@@ -25,6 +25,9 @@ from ..validation.splits import REGIMES
 from ..validation.verdict import primary_route
 from .members import prepare_members
 from .model import FamilyModel
+from .records import FitRecord, IntervalsRecord
+from ..curves.records import SkippedRow
+from ..records import replace
 from .options import at_least, one_of, option
 
 
@@ -120,7 +123,7 @@ def check_options(opts: FitOptions) -> tuple[str, str]:
 
 
 def fit_family(df, source: str, spec, engine, opts: FitOptions):
-    """(FamilyModel, record) for one family's table; the record is in kcal/mol."""
+    """(FamilyModel, FitRecord) for one family's table; the record is in kcal/mol, built once."""
     kind, unit = check_options(opts)
     X, pairs, spec = prepare_members(df, source, spec, engine, opts)
     has_x = X is not None and X.shape[1] > 0
@@ -140,29 +143,34 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
                                                                  opts.random_state)
         notes += more_notes
         warnings += more_warnings
-    record = validate(X if has_x else None, energy, barrier, pairs.ids,
-                      ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
-                                        opts.regimes))
-    primary = primary_route(record["validation"]["loo"], record["routes"]) if has_x else "two_stage"
-    notes += record.pop("notes", [])
+    checked = validate(X if has_x else None, energy, barrier, pairs.ids,
+                       ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
+                                         opts.regimes))
+    primary = primary_route(checked.validation["loo"], checked.routes) if has_x else "two_stage"
+    notes += checked.notes
+    hammett = None
     if has_x and "table" in getattr(engine, "tiers", ()):
         from .hammett import hammett_record
 
-        record["hammett"] = hammett_record(X, spec, barrier)
-    joint = None
+        hammett = hammett_record(X, spec, barrier)
+    joint, family_fields = None, {}
     if opts.family_column:
-        joint, primary = _families(energy, barrier, pairs.families, record, primary, opts, notes)
-    jackknife, record["intervals"] = prediction_intervals(X if has_x else None, energy, barrier, primary, record,
-                                                          opts)
-    notes += record["intervals"].pop("notes")
-    record.update({"n": pairs.n, "units": unit, "energy_kind": kind, "learner": opts.learner,
-                   "relation": curve.relation_.name, "requested_relation": opts.relation,
-                   "features": list(X.columns) if has_x else [], "energy_stage_importance": importance,
-                   "primary_route": primary, "curve": curve.as_dict(), "warnings": warnings, "notes": notes,
-                   "skipped": [{"row": p.row, "id": p.ident, "problem": p.message} for p in pairs.skipped],
-                   "tiers": list(getattr(engine, "tiers", ())) if has_x else []})
+        joint, primary, family_fields = _families(energy, barrier, pairs.families, checked, primary, opts, notes)
+    jackknife, intervals, regimes, more = prediction_intervals(X if has_x else None, energy, barrier, primary,
+                                                               checked, opts)
+    notes += more
+    tiers = list(getattr(engine, "tiers", ())) if has_x else []
+    fields = {f: getattr(checked, f) for f in ("routes", "energy_stage", "comparison", "winner", "members",
+                                               "relations_chosen_in_folds", "y_randomization")}
+    record = FitRecord(
+        n=pairs.n, units=unit, energy_kind=kind, learner=opts.learner, relation=curve.relation_.name,
+        requested_relation=opts.relation, features=list(X.columns) if has_x else [], tiers=tiers,
+        primary_route=primary, curve=curve.record(), validation=regimes, **fields,
+        energy_stage_importance=importance, intervals=intervals, hammett=hammett, **family_fields,
+        warnings=warnings, notes=notes,
+        skipped=[SkippedRow(row=p.row, id=p.ident, problem=p.message) for p in pairs.skipped])
     model = FamilyModel(
-        spec=spec, tiers=tuple(getattr(engine, "tiers", ())) if has_x else (), features=record["features"],
+        spec=spec, tiers=tuple(tiers), features=record.features,
         extra_descriptors=list(opts.extra_descriptors), learner=opts.learner, relation=opts.relation, units=unit,
         energy_kind=kind, energy_column=opts.energy_column, barrier_column=opts.barrier_column,
         two_stage=two_stage, hybrid=hybrid, direct=direct, domain=domain,
@@ -172,57 +180,56 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
                   "structures": member_structures(df, spec, pairs.rows), "families": pairs.families,
                   "energy_range": [float(energy.min()), float(energy.max())],
                   "barrier_range": [float(barrier.min()), float(barrier.max())]},
-        validation={k: v for k, v in record.items() if k != "curve"},
+        validation={k: v for k, v in record.as_dict().items() if k != "curve"},
         primary_route=primary, level=opts.level, warnings=warnings,
         descriptor_versions=_versions(engine) if has_x else {}, xtb=_xtb_settings(engine) if has_x else {},
         intervals=jackknife, family_column=opts.family_column, joint=joint)
     return model, record
 
 
-def _families(energy, barrier, labels, record: dict, primary: str, opts: FitOptions, notes: list):
-    """The families' joint curves and their record (``families``, ``shared``, ``sharing_test``,
-    ``family_validation``); the model's route: through the joint curves unless the black box
-    won leave-one-out (the hybrid's correction is learned for one curve, so it is not offered)."""
+def _families(energy, barrier, labels, checked, primary: str, opts: FitOptions, notes: list):
+    """The families' joint curves, the model's route, and the record's family fields
+    (``families``, ``shared``, ``sharing_test``, ``family_validation``, ``family_names``,
+    ``family_column``): the model predicts through the joint curves unless the black box won
+    leave-one-out (the hybrid's correction is learned for one curve, so it is not offered)."""
     from .families import joint_record
 
-    members = record.get("members") or {}
-    e_loo = members.get("energy_pred")
+    e_loo = checked.members.energy_pred if checked.members is not None else None
     rec, fit, _, names = joint_record(energy, barrier, labels, opts.relation if opts.relation != "auto" else
                                       "asymptotic", opts.share, energy_pred=e_loo)
-    record.update({"families": rec["families"], "shared": rec["shared"], "sharing_test": rec["sharing_test"],
-                   "family_validation": rec["validation"], "family_names": names,
-                   "family_column": opts.family_column})
+    fields = {"families": rec.families, "shared": rec.shared, "sharing_test": rec.sharing_test,
+              "family_validation": rec.validation, "family_names": names, "family_column": opts.family_column}
     if primary == "hybrid":
         notes.append("the hybrid route is not offered with --family (its correction is learned for one "
-                               "curve); the model predicts through each family's own curve")
-    return {"fit": fit, "names": names}, ("direct" if primary == "direct" else "two_stage")
+                     "curve); the model predicts through each family's own curve")
+    return {"fit": fit, "names": names}, ("direct" if primary == "direct" else "two_stage"), fields
 
 
-def prediction_intervals(X, energy, barrier, primary: str, record: dict, opts: FitOptions):
-    """(JackknifePlus or None, the record's ``intervals`` entry): which intervals the model
-    uses, their measured coverage per regime, and a note when the model's own intervals miss
-    their nominal level in leave-one-out."""
+def prediction_intervals(X, energy, barrier, primary: str, checked, opts: FitOptions):
+    """(JackknifePlus or None, the record's ``intervals``, the regimes with jackknife+ coverage
+    added, notes): which intervals the model uses, their measured coverage per regime, and a
+    note when the model's own intervals miss their nominal level in leave-one-out."""
     from ..estimators.jackknife import JackknifePlus
     from ..validation.conformal import coverage_by_regime, off_nominal
 
     route = primary if X is not None else "curve_on_true_energy"
-    loo = record["validation"]["loo"]
-    cover = (loo["routes"].get(route) or {}).get("pi90_coverage")
-    entry = {"method": "model", "route": route, "level": opts.level, "notes": []}
-    if cover is not None and off_nominal(cover, loo["n_test"], opts.level) and opts.prediction_intervals == "model":
-        entry["notes"].append(f"the {route.replace('_', '-')} intervals hold for {cover:.0%} of the members in "
-                              f"leave-one-out against {opts.level:.0%} nominal: --prediction-intervals jackknife+ "
-                              f"builds them from the family's held-out errors instead")
+    loo = checked.validation["loo"]
+    cover = getattr(loo.routes.get(route), "pi90_coverage", None)
+    notes = []
+    if cover is not None and off_nominal(cover, loo.n_test, opts.level) and opts.prediction_intervals == "model":
+        notes.append(f"the {route.replace('_', '-')} intervals hold for {cover:.0%} of the members in "
+                     f"leave-one-out against {opts.level:.0%} nominal: --prediction-intervals jackknife+ "
+                     f"builds them from the family's held-out errors instead")
     if opts.prediction_intervals == "model":
-        return None, entry
+        return None, IntervalsRecord(method="model", route=route, level=opts.level), checked.validation, notes
     vopts = ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, 0, opts.regimes)
     routes = (route, "curve_on_true_energy") if X is not None else (route,)
     coverage = coverage_by_regime(X, energy, barrier, routes, vopts)
-    for name, by_route in coverage.items():
-        record["validation"][name]["jackknife_plus"] = by_route
+    regimes = {name: (replace(r, jackknife_plus=coverage[name]) if name in coverage else r)
+               for name, r in checked.validation.items()}
     fitted = JackknifePlus(primary, opts.learner, opts.relation, opts.level, opts.random_state).fit(X, barrier, energy)
-    entry.update(method=fitted.method, folds=len(fitted.folds_))
-    return fitted, entry
+    return fitted, IntervalsRecord(method=fitted.method, route=route, level=opts.level,
+                                   folds=len(fitted.folds_)), regimes, notes
 
 
 def member_structures(df, spec, rows) -> dict | None:

@@ -6,9 +6,10 @@ from __future__ import annotations
 import numpy as np
 
 from ..curves.hammett import hammett_fit, ring_relations, sigma_sum
+from .records import HammettRecord
 
 
-def hammett_record(X, spec, barrier, temperature: float = 298.15) -> dict | None:
+def hammett_record(X, spec, barrier, temperature: float = 298.15) -> HammettRecord | None:
     """Σσ per member, the constants used, and the fitted line with ρ; None without table σ
     or with fewer than four members that have every σ."""
     if X is None or not any(str(c).endswith("_sigma_p") for c in X.columns):
@@ -22,5 +23,5 @@ def hammett_record(X, spec, barrier, temperature: float = 298.15) -> dict | None
              "σp for every position (where a position sits relative to the reaction centre is known only from a "
              "core with the centre on a benzene ring)")
     left_out = sorted(set(spec.positions) - set(used))
-    return {**fit, "sigma_sum": np.where(np.isfinite(sigma), sigma, np.nan).tolist(), "constants": used,
-            "basis": basis, "left_out_positions": left_out, "n_missing": int(np.sum(~np.isfinite(sigma)))}
+    return HammettRecord(**fit, sigma_sum=np.where(np.isfinite(sigma), sigma, np.nan).tolist(), constants=used,
+                         basis=basis, left_out_positions=left_out, n_missing=int(np.sum(~np.isfinite(sigma))))

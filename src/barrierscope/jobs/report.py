@@ -9,15 +9,16 @@ from ..curves.compare import compare_relations
 from ..io.atomic import write_text_atomic
 from ..views.report import build_report
 from ..views.report_extra import picks_section, screen_section
+from .records import FitRecord
 
 
-def model_record(model) -> dict:
-    """The validation record a model file carries, with its curve (kcal/mol)."""
-    return {**model.validation, "curve": model.curve.as_dict()}
+def model_record(model) -> FitRecord:
+    """The fit record a model file carries, with its curve (kcal/mol)."""
+    return FitRecord.from_dict({**model.validation, "curve": model.curve.as_dict()})
 
 
-def write_report(model, record: dict | None = None, path=None, figures_dir=None, source: str = "",
-                 screen: dict | None = None, picks: dict | None = None) -> str:
+def write_report(model, record: FitRecord | None = None, path=None, figures_dir=None, source: str = "",
+                 screen=None, picks=None) -> str:
     """Build the report (``record`` defaults to the model's own) and write it to ``path``."""
     record = model_record(model) if record is None else record
     comparison = compare_relations(model.training["energy"], model.training["barrier"])

@@ -27,40 +27,26 @@ from ..io.tables import READ_ERROR, ROW, detect_format, id_column_of, iter_table
 from ..views.columns import screen_frame
 from .predict import OK, ScreenOptions, predict_chunk
 from .executors import cached_engine, cached_model, ordered_results
+from .records import ScreenSummary, TopRow
 
 
 @dataclass
-class ScreenSummary:
-    """What a screen found (energies kcal/mol)."""
+class _Tally:
+    """A screen's counts while its chunks come in (kcal/mol); the record is built at the end."""
 
-    units: str = "kcal/mol"
-    energy_kind: str = "free-energy"
-    temperature: float = 298.15
     rows: int = 0
     ok: int = 0
     errors: Counter = field(default_factory=Counter)
     out_of_domain: int = 0
     energy_given: int = 0
-    seconds: float = 0.0
-    output: str = ""
-    top: list = field(default_factory=list)          # lowest barriers, in-domain rows first
-    floor: float | None = None                       # the curve's downhill limit, when it has one
-    family_floors: dict = field(default_factory=dict)  # several families: each family's floor
-    at_floor: int = 0                                # ok rows whose interval reaches the floor
-    implausible_half_lives: int = 0                  # below a picosecond or above the age of the universe
-    distances: list = field(default_factory=list)    # a sample of domain distances (for the report)
-    notes: Counter = field(default_factory=Counter)  # kind of row note → rows carrying it
-
-    def as_dict(self) -> dict:
-        return {"rows": self.rows, "ok": self.ok, "errors": dict(self.errors), "out_of_domain": self.out_of_domain,
-                "energy_given": self.energy_given, "seconds": self.seconds, "output": self.output,
-                "rows_per_second": self.rows / self.seconds if self.seconds else None, "floor": self.floor,
-                "at_floor": self.at_floor, "implausible_half_lives": self.implausible_half_lives,
-                "family_floors": self.family_floors,
-                "temperature": self.temperature, "top": self.top, "notes": dict(self.notes)}
+    implausible_half_lives: int = 0
+    top: list = field(default_factory=list)
+    distances: list = field(default_factory=list)
+    notes: Counter = field(default_factory=Counter)
 
 
 TOP_FIELDS = ("id", "barrier", "low", "high", "alpha", "half_life_s", "energy", "energy_source", "in_domain", "route")
+
 #: Half-lives outside these bounds (s) are physically implausible for a thermal reaction in a
 #: flask: below a picosecond (faster than a molecular vibration), above the age of the universe
 #: (about 4.35e17 s, Planck 2018 cosmology; rounded).
@@ -133,9 +119,16 @@ def _merge_top(current: list, pred, k: int, structure_columns) -> list:
 
     ok = pred[pred["status"] == OK]
     cand = pd.concat([ok.nsmallest(k, "barrier"), ok[ok["in_domain"].astype(bool)].nsmallest(k, "barrier")])
-    fields = [*TOP_FIELDS, *[c for c in structure_columns if c in ok.columns]]
-    rows = current + [dict(zip(fields, r)) for r in cand.drop_duplicates("row")[fields].itertuples(index=False)]
-    return sorted(rows, key=lambda r: (not r["in_domain"], r["barrier"]))[:k]
+    structures = [c for c in structure_columns if c in ok.columns]
+    picked = cand.drop_duplicates("row")[[*TOP_FIELDS, *structures]]
+    rows = current + [_top_row(r, structures) for r in picked.itertuples(index=False)]
+    return sorted(rows, key=lambda r: (not r.in_domain, r.barrier))[:k]
+
+
+def _top_row(values, structures) -> TopRow:
+    d = dict(zip(TOP_FIELDS, values[:len(TOP_FIELDS)]))
+    d["in_domain"] = bool(d["in_domain"])
+    return TopRow(**d, structure={c: str(v) for c, v in zip(structures, values[len(TOP_FIELDS):])})
 
 
 def _tasks(library, in_fmt, model, opts, content, key, chunk_size, fmt, top, folder, local):
@@ -153,7 +146,7 @@ def part_path(folder: Path, k: int, fmt: str) -> Path:
     return folder / f"part{k:06d}.{fmt}"
 
 
-def _count(summary: ScreenSummary, part: dict, top: int) -> None:
+def _count(summary: _Tally, part: dict, top: int) -> None:
     summary.rows += part["rows"]
     summary.ok += part["ok"]
     summary.errors.update(part["errors"])
@@ -164,7 +157,7 @@ def _count(summary: ScreenSummary, part: dict, top: int) -> None:
     if len(summary.distances) < 20000:
         summary.distances += part["distances"].tolist()
     if top:
-        summary.top = sorted(summary.top + part["top"], key=lambda r: (not r["in_domain"], r["barrier"]))[:top]
+        summary.top = sorted(summary.top + part["top"], key=lambda r: (not r.in_domain, r.barrier))[:top]
 
 
 def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, chunk_size: int = 20000,
@@ -185,10 +178,10 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
     in_fmt = detect_format(library)
     if not model.has_structures and opts.energy_column is None:
         opts = replace(opts, energy_column=model.energy_column)
-    summary = ScreenSummary(units=model.units, energy_kind=model.energy_kind, temperature=opts.temperature,
-                            output=str(output), floor=floor_of(model.curve) if model.joint is None else None)
-    if model.joint is not None:
-        summary.family_floors = dict(zip(model.joint["names"], model.family_floors().tolist()))
+    tally = _Tally()
+    floor = floor_of(model.curve) if model.joint is None else None
+    family_floors = ({} if model.joint is None else
+                     dict(zip(model.joint["names"], model.family_floors().tolist())))
     output.parent.mkdir(parents=True, exist_ok=True)
     folder = partfiles.parts_folder(output)
     total = partfiles.count_rows(library, in_fmt)
@@ -210,19 +203,24 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
             barriers.append(piece["barrier"])
             lows.append(piece["low"])
             floors.append(piece["floor"])
-            _count(summary, piece, top)
+            _count(tally, piece, top)
             bar.update(piece["rows"])
         bar.close()
         b = np.concatenate(barriers) if barriers else np.zeros(0)
         lo = np.concatenate(lows) if lows else np.zeros(0)
-        row_floor = (np.concatenate(floors) if floors and floors[0] is not None else summary.floor)
+        row_floor = (np.concatenate(floors) if floors and floors[0] is not None else floor)
         rank, grouped = ranks(b, lo, row_floor)
-        summary.at_floor = int(grouped.sum())
         partfiles.assemble(parts, rank, output, out_fmt, header)
     finally:
         partfiles.discard(folder)
-    summary.seconds = time.monotonic() - t0
-    return summary
+    seconds = time.monotonic() - t0
+    return ScreenSummary(units=model.units, energy_kind=model.energy_kind, temperature=opts.temperature,
+                         rows=tally.rows, ok=tally.ok, errors=dict(tally.errors), out_of_domain=tally.out_of_domain,
+                         energy_given=tally.energy_given, seconds=seconds,
+                         rows_per_second=tally.rows / seconds if seconds else None, output=str(output), top=tally.top,
+                         floor=floor, family_floors=family_floors, at_floor=int(grouped.sum()),
+                         implausible_half_lives=tally.implausible_half_lives, distances=tally.distances,
+                         notes=dict(tally.notes))
 
 
 class _Progress:

@@ -16,6 +16,7 @@ from ..io.tables import read_table
 from .executors import cached_engine
 from .options import at_least, one_of
 from .predict import OK, ScreenOptions, predict_chunk
+from .records import Pick, PickFacts, SuggestRecord
 from ..errors import DataError
 
 
@@ -37,28 +38,28 @@ def _already_computed(model, frame, keys) -> np.ndarray:
     return seen
 
 
-def _facts(model, cands: Candidates, c: int, goal: str) -> dict:
+def _facts(model, cands: Candidates, c: int, goal: str) -> PickFacts:
     """What a pick's reason rests on (kcal/mol)."""
     train_e = np.asarray(model.training["energy"], dtype=float)
     e = float(cands.energy[c])
     curve = model.curve
-    facts = {"where": "gap", "gap": float(np.min(np.abs(train_e - e))), "below": float(train_e.min() - e),
-             "above": float(e - train_e.max()), "goal": goal, "floor_open": any(curve.ci_open_.get("floor", ())),
-             "threshold": float(model.domain.threshold_) if np.isfinite(model.domain.threshold_) else None}
+    where = "gap"
     if e < train_e.min():
-        facts["where"] = "downhill"
+        where = "downhill"
     elif e > train_e.max():
-        facts["where"] = "uphill"
+        where = "uphill"
     elif curve.relation_.name == "asymptotic":
         p = curve.params_dict()
         if abs(e - p["midpoint"]) < p["width"]:
-            facts["where"] = "midpoint"
-    return facts
+            where = "midpoint"
+    return PickFacts(where=where, gap=float(np.min(np.abs(train_e - e))), below=float(train_e.min() - e),
+                     above=float(e - train_e.max()), goal=goal, floor_open=any(curve.ci_open_.get("floor", ())),
+                     threshold=float(model.domain.threshold_) if np.isfinite(model.domain.threshold_) else None)
 
 
 def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", energy_column: str | None = None,
                  energy_units: str | None = None, id_column: str | None = None, cache_dir="default",
-                 max_atoms: int = 200, model=None) -> dict:
+                 max_atoms: int = 200, model=None) -> SuggestRecord:
     """Picks with scores and the facts behind them, plus what was left out and why.
     ``candidates_path`` is a table file, or a DataFrame as :func:`..io.tables.read_table` gives."""
     at_least("-k", k, 1)
@@ -91,17 +92,18 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
     near = float(np.median(model.domain.train_distances_)) if model.domain.train_distances_.size else 0.0
     picks = pick(model.curve, cands, k, goal, energy_state(model) if goal == "predictions" else None,
                  min_gap=max(0.5, float(np.median(cands.energy_sd))), near=near)
-    out = [{"id": str(cands.ids[p["index"]]), "score": p["score"], "energy": float(cands.energy[p["index"]]),
-            "energy_sd": float(cands.energy_sd[p["index"]]), "energy_given": bool(cands.given[p["index"]]),
-            "in_domain": bool(cands.in_domain[p["index"]]), "ad_distance": float(cands.ad_distance[p["index"]]),
-            "barrier": float(sub.loc[p["index"], "barrier"]), "low": float(sub.loc[p["index"], "low"]),
-            "high": float(sub.loc[p["index"], "high"]), "facts": _facts(model, cands, p["index"], goal),
-            "energy_outside_span": bool(sub.loc[p["index"], "ad_energy_out"]),
-            "energy_clipped": bool(sub.loc[p["index"], "energy_clipped"]),
-            "unusual_descriptors": bool(sub.loc[p["index"], "off_manifold"]),
-            "structure": {c: str(sub.loc[p["index"], c]) for c in model.spec.columns if c in sub.columns}}
+    out = [Pick(id=str(cands.ids[p["index"]]), score=p["score"], energy=float(cands.energy[p["index"]]),
+                energy_sd=float(cands.energy_sd[p["index"]]), energy_given=bool(cands.given[p["index"]]),
+                in_domain=bool(cands.in_domain[p["index"]]), ad_distance=float(cands.ad_distance[p["index"]]),
+                barrier=float(sub.loc[p["index"], "barrier"]), low=float(sub.loc[p["index"], "low"]),
+                high=float(sub.loc[p["index"], "high"]), facts=_facts(model, cands, p["index"], goal),
+                energy_outside_span=bool(sub.loc[p["index"], "ad_energy_out"]),
+                energy_clipped=bool(sub.loc[p["index"], "energy_clipped"]),
+                unusual_descriptors=bool(sub.loc[p["index"], "off_manifold"]),
+                structure={c: str(sub.loc[p["index"], c]) for c in model.spec.columns if c in sub.columns})
            for p in picks]
-    return {"goal": goal, "k": k, "units": model.units, "candidates": int(len(frame)), "considered": int(pool.sum()),
-            "already_computed": int(done.sum()), "already_computed_ids": frame.loc[done, "id"].astype(str).tolist(),
-            "left_out": {str(kind): int(v) for kind, v in frame.loc[~ok, "error_kind"].value_counts().items()},
-            "picks": out}
+    return SuggestRecord(goal=goal, k=k, units=model.units, candidates=int(len(frame)), considered=int(pool.sum()),
+                         already_computed=int(done.sum()),
+                         already_computed_ids=frame.loc[done, "id"].astype(str).tolist(),
+                         left_out={str(kind): int(v) for kind, v in frame.loc[~ok, "error_kind"].value_counts().items()},
+                         picks=out)

@@ -62,6 +62,7 @@ class AsymptoticRelation(Relation):
     name = "asymptotic"
     label = "asymptotic curve (floor, midpoint, width)"
     param_names = ("floor", "midpoint", "width")
+    derived_units = {"intrinsic_barrier": "energy", "uphill_excess": "energy", "alpha_at_zero": "dimensionless"}
 
     def barrier(self, energy, theta):
         f, m, w = split_params(theta, 3)

@@ -68,6 +68,8 @@ class Relation(ABC):
     param_names: ClassVar[tuple[str, ...]]
     #: Parameters without an energy unit (all others are energies, kcal/mol).
     dimensionless: ClassVar[tuple[str, ...]] = ()
+    #: The unit class of each quantity :meth:`derived` returns (see :mod:`barrierscope.records`).
+    derived_units: ClassVar[dict[str, str]] = {"intrinsic_barrier": "energy"}
 
     @abstractmethod
     def barrier(self, energy, theta):

@@ -19,6 +19,7 @@ class LinearRelation(Relation):
     label = "linear (Bell–Evans–Polanyi / Leffler)"
     param_names = ("intercept", "alpha")
     dimensionless = ("alpha",)
+    derived_units = {"intrinsic_barrier": "energy", "alpha": "dimensionless"}
 
     def barrier(self, energy, theta):
         c, a = split_params(theta, 2)

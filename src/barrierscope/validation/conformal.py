@@ -14,6 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..estimators.jackknife import conformal_bounds, folds
+from .records import JackknifeCoverage
 from .routes import out_of_fold
 from .splits import Split
 
@@ -43,7 +44,7 @@ def _predictions(X, energy, barrier, inner, routes, kw) -> dict[str, list]:
 
 
 def jackknife_coverage(X, energy, barrier, splits: list[Split], routes, *, level: float = 0.90,
-                       random_state: int = 0, **kw) -> dict[str, dict]:
+                       random_state: int = 0, **kw) -> dict[str, JackknifeCoverage]:
     """Per route: {``coverage``: share of the held-out members inside their jackknife+ interval,
     ``width``: the median finite interval width (kcal/mol), ``n_test``}."""
     barrier = np.asarray(barrier, dtype=float)
@@ -63,8 +64,8 @@ def jackknife_coverage(X, energy, barrier, splits: list[Split], routes, *, level
             inside.append((y >= lo) & (y <= hi))
             widths.append(hi - lo)
         inside_all, w = np.concatenate(inside), np.concatenate(widths)
-        out[r] = {"coverage": float(inside_all.mean()), "n_test": int(inside_all.size),
-                  "width": float(np.median(w[np.isfinite(w)])) if np.isfinite(w).any() else None}
+        out[r] = JackknifeCoverage(coverage=float(inside_all.mean()), n_test=int(inside_all.size),
+                                   width=float(np.median(w[np.isfinite(w)])) if np.isfinite(w).any() else None)
     return out
 
 

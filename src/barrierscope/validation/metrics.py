@@ -12,8 +12,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from .records import Metrics, PairComparison
 
-def metrics(y, pred, low=None, high=None) -> dict:
+
+def metrics(y, pred, low=None, high=None) -> Metrics:
     """MAE, RMSE, R² over the members where ``pred`` is finite, and, with intervals, the share
     of those members inside [low, high]."""
     y = np.asarray(y, dtype=float)
@@ -21,15 +23,15 @@ def metrics(y, pred, low=None, high=None) -> dict:
     ok = np.isfinite(pred)
     y, pred = y[ok], pred[ok]
     if y.size == 0:
-        return {"mae": float("nan"), "rmse": float("nan"), "r2": float("nan")}
+        return Metrics(mae=float("nan"), rmse=float("nan"), r2=float("nan"))
     err = pred - y
     ss_tot = float(np.sum((y - y.mean()) ** 2))
-    out = {"mae": float(np.mean(np.abs(err))), "rmse": float(np.sqrt(np.mean(err ** 2))),
-           "r2": float(1.0 - np.sum(err ** 2) / ss_tot) if ss_tot > 0 else float("nan")}
+    cover = None
     if low is not None and high is not None:
         lo, hi = np.asarray(low, dtype=float)[ok], np.asarray(high, dtype=float)[ok]
-        out["pi90_coverage"] = float(np.mean((y >= lo) & (y <= hi)))
-    return out
+        cover = float(np.mean((y >= lo) & (y <= hi)))
+    return Metrics(mae=float(np.mean(np.abs(err))), rmse=float(np.sqrt(np.mean(err ** 2))),
+                   r2=float(1.0 - np.sum(err ** 2) / ss_tot) if ss_tot > 0 else float("nan"), pi90_coverage=cover)
 
 
 def bootstrap_indices(n: int, n_boot: int = 2000, random_state: int = 0) -> np.ndarray:
@@ -37,7 +39,7 @@ def bootstrap_indices(n: int, n_boot: int = 2000, random_state: int = 0) -> np.n
     return np.random.default_rng(random_state).integers(0, n, size=(n_boot, n))
 
 
-def paired_comparison(err_route, err_base, idx: np.ndarray | None = None, random_state: int = 0) -> dict:
+def paired_comparison(err_route, err_base, idx: np.ndarray | None = None, random_state: int = 0) -> PairComparison:
     """Route against base on the same members (signed errors in, kcal/mol):
     ``delta_mae`` = MAE(route) − MAE(base) with its bootstrap 95 % interval ``ci95``,
     ``delta_mse`` = MSE(route) − MSE(base) with ``mse_ci95``, and the Wilcoxon p of the
@@ -49,16 +51,16 @@ def paired_comparison(err_route, err_base, idx: np.ndarray | None = None, random
     lo, hi = np.percentile(d_abs[idx].mean(axis=1), [2.5, 97.5])
     slo, shi = np.percentile(d_sq[idx].mean(axis=1), [2.5, 97.5])
     p = 1.0 if np.allclose(d_abs, 0.0) or a.size < 2 else wilcoxon_p(a, b)
-    return {"delta_mae": float(d_abs.mean()), "ci95": [float(lo), float(hi)], "wilcoxon_p": p,
-            "delta_mse": float(d_sq.mean()), "mse_ci95": [float(slo), float(shi)]}
+    return PairComparison(delta_mae=float(d_abs.mean()), ci95=[float(lo), float(hi)], wilcoxon_p=p,
+                          delta_mse=float(d_sq.mean()), mse_ci95=[float(slo), float(shi)])
 
 
-def beats(c: dict) -> bool:
+def beats(c: PairComparison) -> bool:
     """Does the route clearly beat the base in a :func:`paired_comparison`? Clearly lower MAE
     without clearly larger squared errors, or clearly lower squared errors without clearly
     larger MAE (both at 95 %)."""
-    mae_better, mae_worse = c["ci95"][1] < 0, c["ci95"][0] > 0
-    mse_better, mse_worse = c["mse_ci95"][1] < 0, c["mse_ci95"][0] > 0
+    mae_better, mae_worse = c.ci95[1] < 0, c.ci95[0] > 0
+    mse_better, mse_worse = c.mse_ci95[1] < 0, c.mse_ci95[0] > 0
     return (mae_better and not mse_worse) or (mse_better and not mae_worse)
 
 

@@ -3,8 +3,8 @@
 :func:`validate` runs leave-one-out and the extrapolation regimes (:mod:`.splits`), scores
 every route on the held-out members (:mod:`.metrics`), decides each regime (:mod:`.verdict`),
 y-randomises, and keeps the per-member leave-one-out table. Everything is refitted inside
-each split (:mod:`.routes`). The record is plain data in kcal/mol; the views turn it into
-the user's unit and words.
+each split (:mod:`.routes`). The result is a typed record (:mod:`.records`) in kcal/mol; the
+views turn it into the user's unit and words.
 """
 
 from __future__ import annotations
@@ -15,6 +15,7 @@ import numpy as np
 
 from ..estimators.preprocess import Preprocessor
 from .metrics import beats, metrics, paired_comparison
+from .records import MembersTable, RegimeRecord, ValidationRecord
 from .routes import ROUTES, out_of_fold
 from .splits import REGIMES, regimes
 from .verdict import decide
@@ -48,16 +49,14 @@ def standardised(X) -> np.ndarray | None:
     return Preprocessor.fit(A, [str(c) for c in range(A.shape[1])]).transform(A)
 
 
-def _regime_record(oof, energy, barrier, ids, random_state) -> dict:
+def _regime_record(oof, energy, barrier, ids, random_state) -> RegimeRecord:
     routes = {r: metrics(barrier, oof.pred[r], oof.low[r], oof.high[r]) for r in ROUTES if r in oof.pred}
     decision = decide({r: oof.pred[r] - barrier for r in oof.pred}, ids, random_state)
-    record = {"n_test": int(oof.tested.sum()), "routes": routes, "winner": decision["winner"],
-              "tied": decision["tied"], "leader_beats": decision["leader_beats"], "beats_mean": decision["beats_mean"],
-              "misses": decision["misses"],
-              "pairs": decision["pairs"], "skipped": ""}
-    record["energy_stage"] = None if oof.energy is None else metrics(energy, oof.energy)
-    record["curve_beats_mean"] = _curve_beats_mean(oof, barrier, random_state)
-    return record
+    return RegimeRecord(n_test=int(oof.tested.sum()), routes=routes, winner=decision["winner"],
+                        tied=decision["tied"], leader_beats=decision["leader_beats"],
+                        beats_mean=decision["beats_mean"], misses=decision["misses"], pairs=decision["pairs"],
+                        energy_stage=None if oof.energy is None else metrics(energy, oof.energy),
+                        curve_beats_mean=_curve_beats_mean(oof, barrier, random_state))
 
 
 def _curve_beats_mean(oof, barrier, random_state) -> bool | None:
@@ -73,73 +72,73 @@ def _curve_beats_mean(oof, barrier, random_state) -> bool | None:
     return beats(c)
 
 
-def _members(oof, energy, barrier, ids) -> dict:
+def _members(oof, energy, barrier, ids) -> MembersTable:
     """The per-member leave-one-out table (column-oriented, kcal/mol)."""
-    out = {"id": list(ids), "energy": energy.tolist(), "barrier": barrier.tolist(),
-           "energy_pred": None if oof.energy is None else oof.energy.tolist(),
-           "energy_sd": None if oof.energy_std is None else oof.energy_std.tolist(),
-           "pred": {r: v.tolist() for r, v in oof.pred.items()},
-           "low": {r: v.tolist() for r, v in oof.low.items()},
-           "high": {r: v.tolist() for r, v in oof.high.items()},
-           "energy_true_outside": oof.energy_true_outside.tolist()}
-    if oof.ad_out is not None:
-        out.update({"ad_distance": oof.ad_distance.tolist(), "ad_out": oof.ad_out.tolist(),
-                    "energy_pred_outside": oof.energy_pred_outside.tolist(),
-                    "energy_clipped": oof.energy_clipped.tolist(), "unusual_descriptors": oof.off_manifold.tolist()})
     # A member the curve misses badly even from its own reaction energy points at the data
     # (a transition state that is not the right one, or a mis-assigned energy), not the model.
     resid = oof.pred["curve_on_true_energy"] - barrier
     mad = 1.4826 * float(np.median(np.abs(resid - np.median(resid))))
-    out["unusual"] = (np.abs(resid - np.median(resid)) > UNUSUAL_Z * mad).tolist() if mad > 0 else [False] * len(ids)
-    return out
+    unusual = (np.abs(resid - np.median(resid)) > UNUSUAL_Z * mad).tolist() if mad > 0 else [False] * len(ids)
+    domain = {}
+    if oof.ad_out is not None:
+        domain = {"ad_distance": oof.ad_distance.tolist(), "ad_out": oof.ad_out.tolist(),
+                  "energy_pred_outside": oof.energy_pred_outside.tolist(),
+                  "energy_clipped": oof.energy_clipped.tolist(), "unusual_descriptors": oof.off_manifold.tolist()}
+    return MembersTable(id=list(ids), energy=energy.tolist(), barrier=barrier.tolist(),
+                        energy_pred=None if oof.energy is None else oof.energy.tolist(),
+                        energy_sd=None if oof.energy_std is None else oof.energy_std.tolist(),
+                        pred={r: v.tolist() for r, v in oof.pred.items()},
+                        low={r: v.tolist() for r, v in oof.low.items()},
+                        high={r: v.tolist() for r, v in oof.high.items()},
+                        energy_true_outside=oof.energy_true_outside.tolist(), unusual=unusual, **domain)
 
 
-def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOptions()) -> dict:
+def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOptions()) -> ValidationRecord:
     """Every regime in ``opts.regimes``; see the module docstring. Energies in kcal/mol."""
     energy = np.asarray(energy, dtype=float)
     barrier = np.asarray(barrier, dtype=float)
     has_x = X is not None and np.shape(X)[1] > 0
     plan = regimes(energy, standardised(X) if has_x else None, opts.random_state, opts.regimes)
     kw = dict(learner=opts.learner, relation=opts.relation, level=opts.level, random_state=opts.random_state)
-    record: dict = {"validation": {}, "notes": []}
+    regimes_out: dict[str, RegimeRecord] = {}
+    notes: list[str] = []
     loo = None
     capped = fits = 0
     designs: dict = {}  # ridge fold designs shared by every target on the same splits
     for name, regime in plan.items():
         if regime.skipped:
-            record["validation"][name] = {"n_test": 0, "routes": {}, "winner": None, "skipped": regime.skipped}
+            regimes_out[name] = RegimeRecord(skipped=regime.skipped)
             continue
         oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, designs=designs, **kw)
-        record["validation"][name] = _regime_record(oof, energy, barrier, ids, opts.random_state)
+        regimes_out[name] = _regime_record(oof, energy, barrier, ids, opts.random_state)
         capped, fits = capped + oof.optimizer_capped, fits + oof.fits
         if name == "loo":
             loo = oof
     if loo is None:
         raise ValueError("leave-one-out validation is required")
-    top = record["validation"]["loo"]
-    record["routes"] = {r: top["routes"].get(r) for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy",
-                                                          "family_mean")}
-    record["energy_stage"] = top["energy_stage"]
-    record["comparison"] = {k: top["pairs"][k] for k in ("two_stage_vs_direct", "hybrid_vs_direct")
-                            if k in top["pairs"]}
-    record["winner"] = top["winner"] if has_x else ("curve_on_true_energy" if top["winner"] == "curve_on_true_energy"
-                                                    else top["winner"])
-    record["members"] = _members(loo, energy, barrier, ids)
-    if opts.relation == "auto":
-        record["relations_chosen_in_folds"] = {k: loo.relations.count(k) for k in sorted(set(loo.relations))}
+    top = regimes_out["loo"]
     shuffles = opts.n_shuffles
     if opts.learner in SLOW_LEARNERS and shuffles > SLOW_SHUFFLES:
         shuffles = SLOW_SHUFFLES
-        record["notes"].append(f"y-randomisation capped at {SLOW_SHUFFLES} shuffles for the {opts.learner} learner "
-                               f"(each shuffle refits it in every fold); {opts.n_shuffles} were asked for")
+        notes.append(f"y-randomisation capped at {SLOW_SHUFFLES} shuffles for the {opts.learner} learner "
+                     f"(each shuffle refits it in every fold); {opts.n_shuffles} were asked for")
     if opts.learner == "forest":
         from ..estimators.learners import FOREST_TREES, REFIT_FOREST_TREES
 
-        record["notes"].append(f"validation refits grow forests of {REFIT_FOREST_TREES} trees (the model's has "
-                               f"{FOREST_TREES}): a bounded cost, every split refitting the forest")
+        notes.append(f"validation refits grow forests of {REFIT_FOREST_TREES} trees (the model's has "
+                     f"{FOREST_TREES}): a bounded cost, every split refitting the forest")
     if capped:
-        record["notes"].append(f"the {opts.learner} learner's hyper-parameter search stopped at a bound or an "
-                               f"iteration limit in {capped} of {fits} validation refits; those fits stand")
-    record["y_randomization"] = (y_randomization(X, energy, barrier, opts.learner, opts.relation, shuffles,
-                                                 opts.random_state, designs) if has_x and shuffles else None)
-    return record
+        notes.append(f"the {opts.learner} learner's hyper-parameter search stopped at a bound or an "
+                     f"iteration limit in {capped} of {fits} validation refits; those fits stand")
+    return ValidationRecord(
+        validation=regimes_out,
+        routes={r: top.routes.get(r) for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy",
+                                               "family_mean")},
+        energy_stage=top.energy_stage,
+        comparison={k: top.pairs[k] for k in ("two_stage_vs_direct", "hybrid_vs_direct") if k in top.pairs},
+        winner=top.winner, members=_members(loo, energy, barrier, ids),
+        relations_chosen_in_folds=({k: loo.relations.count(k) for k in sorted(set(loo.relations))}
+                                   if opts.relation == "auto" else None),
+        y_randomization=(y_randomization(X, energy, barrier, opts.learner, opts.relation, shuffles,
+                                         opts.random_state, designs) if has_x and shuffles else None),
+        notes=notes)

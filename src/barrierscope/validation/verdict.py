@@ -61,14 +61,14 @@ def _leader_beats(names, err, pairs) -> list[str]:
     return [r for r in names if r != best and beats(pairs[(best, r)])]
 
 
-def primary_route(loo_decision: dict, loo_routes: dict) -> str:
+def primary_route(loo_decision, loo_routes: dict) -> str:
     """The route a model predicts with: the leave-one-out winner among the descriptor
     routes; on a tie (or when only the family mean wins) the descriptor route with the lowest
     leave-one-out MAE — chosen by the numbers, whichever kind of route it is."""
-    winner = loo_decision["winner"]
+    winner = loo_decision.winner
     if winner in ("two_stage", "hybrid", "direct"):
         return winner
     routes = [r for r in ("two_stage", "hybrid", "direct") if loo_routes.get(r)]
     if not routes:
         return "two_stage"
-    return min(routes, key=lambda r: loo_routes[r]["mae"])
+    return min(routes, key=lambda r: loo_routes[r].mae)

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .records import YRandomization
 from .routes import out_of_fold
 from .splits import loo_splits
 
@@ -27,7 +28,7 @@ def constant_predictor_loo_mae(y) -> float:
 
 
 def y_randomization(X, energy, barrier, learner: str, relation: str, n_shuffles: int = 5,
-                    random_state: int = 0, designs: dict | None = None) -> dict:
+                    random_state: int = 0, designs: dict | None = None) -> YRandomization:
     """Leave-one-out MAE of the two-stage and direct routes refitted on shuffled pairs."""
     rng = np.random.default_rng(random_state)
     energy = np.asarray(energy, dtype=float)
@@ -46,6 +47,6 @@ def y_randomization(X, energy, barrier, learner: str, relation: str, n_shuffles:
     def stat(values, f):
         return float(f(values)) if values else float("nan")
 
-    return {"n_shuffles": int(n_shuffles), "mae_mean": stat(maes["two_stage"], np.mean),
-            "mae_std": stat(maes["two_stage"], np.std), "direct_mae_mean": stat(maes["direct"], np.mean),
-            "mean_predictor_mae": constant_predictor_loo_mae(barrier)}
+    return YRandomization(n_shuffles=int(n_shuffles), mae_mean=stat(maes["two_stage"], np.mean),
+                          mae_std=stat(maes["two_stage"], np.std), direct_mae_mean=stat(maes["direct"], np.mean),
+                          mean_predictor_mae=constant_predictor_loo_mae(barrier))

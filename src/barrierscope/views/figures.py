@@ -79,7 +79,7 @@ def draw_curve(ax, model, unit: str | None = None, comparison=None, picks=None):
                 label="uphill asymptote dE + U")
     ax.scatter(x, y, s=22, color="black", zorder=5, label="members")
     if picks:
-        pe = np.array([p["energy"] for p in picks], dtype=float)
+        pe = np.array([p.energy for p in picks], dtype=float)
         ax.scatter(to_unit(pe, unit), to_unit(curve.predict(pe), unit), s=90, marker="*", color=OKABE_ITO[1],
                    edgecolor="black", zorder=6, label="suggested next")
     ax.set_xlabel(f"reaction energy dE ({unit})")
@@ -181,17 +181,17 @@ def figure_png(draw, *args, size=(6.4, 4.4), **kwargs) -> bytes:
     return png(fig)
 
 
-def hammett_png(hammett: dict, barrier_kcal, unit: str) -> bytes:
+def hammett_png(hammett, barrier_kcal, unit: str) -> bytes:
     """Barrier and log10 k (Eyring, at the record's temperature) against Σσ, each with the
     fitted line; ``hammett`` in kcal/mol (:func:`..jobs.hammett.hammett_record`)."""
     from ..kinetics import eyring_rate
 
-    s = np.asarray([np.nan if v is None else v for v in hammett["sigma_sum"]], dtype=float)
+    s = np.asarray([np.nan if v is None else v for v in hammett.sigma_sum], dtype=float)
     b = np.asarray(barrier_kcal, dtype=float)
     ok = np.isfinite(s) & np.isfinite(b)
     grid = np.linspace(s[ok].min() - 0.1, s[ok].max() + 0.1, 50)
-    line = hammett["barrier_at_zero_sigma"] + hammett["barrier_per_sigma"] * grid
-    t = hammett["temperature"]
+    line = hammett.barrier_at_zero_sigma + hammett.barrier_per_sigma * grid
+    t = hammett.temperature
     fig = new_figure((8.8, 3.6))
     left, right = fig.subplots(1, 2)
     left.plot(s[ok], to_unit(b[ok], unit), "o", color=OKABE_ITO[0], label="members")
@@ -199,9 +199,9 @@ def hammett_png(hammett: dict, barrier_kcal, unit: str) -> bytes:
     left.set_xlabel("Σσ")
     left.set_ylabel(f"barrier ({unit})")
     right.plot(s[ok], np.log10(eyring_rate(b[ok], t)), "o", color=OKABE_ITO[0], label="members")
-    lo, hi = hammett["rho_ci95"]
+    lo, hi = hammett.rho_ci95
     right.plot(grid, np.log10(eyring_rate(line, t)), "-", color=OKABE_ITO[4],
-               label=f"ρ = {hammett['rho']:.2f} [{lo:.2f}, {hi:.2f}]")
+               label=f"ρ = {hammett.rho:.2f} [{lo:.2f}, {hi:.2f}]")
     right.set_xlabel("Σσ")
     right.set_ylabel(f"log10 k (s⁻¹, Eyring, {t:g} K)")
     for ax in (left, right):
@@ -209,12 +209,12 @@ def hammett_png(hammett: dict, barrier_kcal, unit: str) -> bytes:
     return png(fig)
 
 
-def families_png(record: dict, energy, barrier, fam, names, unit: str) -> bytes:
+def families_png(families: dict, relation: str, shared, energy, barrier, fam, names, unit: str) -> bytes:
     """Every family's members and its jointly fitted curve, one colour and marker each;
-    ``record`` the joint record (kcal/mol)."""
+    ``families`` {name: FamilyEntry} (kcal/mol) of ``relation``, with ``shared`` parameters."""
     from ..relations import get_relation
 
-    rel = get_relation(record["relation"])
+    rel = get_relation(relation)
     x, y, fam = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float), np.asarray(fam)
     fig = new_figure((6.8, 4.6))
     ax = fig.subplots()
@@ -222,14 +222,14 @@ def families_png(record: dict, energy, barrier, fam, names, unit: str) -> bytes:
     for k, name in enumerate(names):
         colour, style = OKABE_ITO[k % len(OKABE_ITO)], LINESTYLES[k % len(LINESTYLES)]
         sel = fam == k
-        f = record["families"][name]
-        theta = np.array(list(f["params"].values()))
+        f = families[name]
+        theta = np.array(list(f.params.values()))
         grid = np.linspace(x[sel].min() - 3.0, x[sel].max() + 3.0, 200)
         ax.plot(to_unit(x[sel], unit), to_unit(y[sel], unit), markers[k % len(markers)], color=colour, ms=4,
-                label=f"{name} (n = {f['n']})")
+                label=f"{name} (n = {f.n})")
         ax.plot(to_unit(grid, unit), to_unit(rel.barrier(grid, theta), unit), color=colour, ls=style, lw=1.4)
     ax.set_xlabel(f"reaction energy ({unit})")
     ax.set_ylabel(f"barrier ({unit})")
-    ax.set_title("shared: " + (", ".join(record["shared"]) or "none"), fontsize=9)
+    ax.set_title("shared: " + (", ".join(shared) or "none"), fontsize=9)
     ax.legend(fontsize=7, ncol=2)
     return png(fig)

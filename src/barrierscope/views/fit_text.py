@@ -116,15 +116,14 @@ def format_fit(record: dict, tiers=()) -> str:
     return "\n".join(lines)
 
 
-def fit_json(record: dict, tiers=()) -> dict:
-    """The `fit --json` object: the record in its own unit (``record['units']``) with the verdict
+def fit_json(record, tiers=()) -> dict:
+    """The `fit --json` object: the FitRecord in its own unit (``record.units``) with the verdict
     in words; the curve without its covariance (mixed units) and raw parameter vector."""
     from .curve_text import identifiability_text
     from .units import in_unit
 
-    unit = record["units"]
-    curve = {k: v for k, v in record["curve"].items() if k not in ("theta", "cov")}
-    out = in_unit({**record, "curve": curve}, unit)
+    unit = record.units
+    out = in_unit(record, unit)
     if out["curve"].get("identifiability"):
         out["curve"]["identifiability"]["message"] = identifiability_text(out["curve"]["identifiability"], unit)
     out["verdict"] = verdict_text(out, unit, tiers)

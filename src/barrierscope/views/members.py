@@ -19,8 +19,9 @@ from .units import in_unit, unit_slug
 ROUTE_ORDER = ("two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean")
 
 
-def members_frame(record: dict, unit: str, rounded: bool = True) -> pd.DataFrame:
-    m = in_unit(record["members"], unit)
+def members_frame(record, unit: str, rounded: bool = True) -> pd.DataFrame:
+    """``record``: a FitRecord (kcal/mol); the table in ``unit``."""
+    m = in_unit(record.members, unit)
     u = unit_slug(unit)
     r = (lambda v: np.round(np.asarray(v, dtype=float), 3)) if rounded else (lambda v: np.asarray(v, dtype=float))
     out = pd.DataFrame({"id": m["id"], f"reaction_energy_{u}": r(m["energy"]), f"barrier_{u}": r(m["barrier"])})

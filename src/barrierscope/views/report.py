@@ -90,8 +90,7 @@ def _curve(model, rec, comparison, unit, picks, figures_dir) -> str:
              figure(fg.figure_png(fg.draw_curve, model, unit, comparison, picks), "Members, every fitted relation, "
                     "the prediction band of the model's relation, its floor and its uphill asymptote" +
                     ("; stars: suggested next calculations" if picks else "") + ".", "curve", figures_dir)]
-    c = in_unit({"params": curve.params_dict(), "ci95": {k: list(v) for k, v in curve.ci_.items()},
-                 "derived": curve.derived(), "sigma": curve.sigma_}, unit)
+    c = in_unit(curve.record(), unit)
     prow = []
     for name, value in c["params"].items():
         ci, opened = c["ci95"].get(name), curve.ci_open_.get(name, (False, False))
@@ -106,7 +105,8 @@ def _curve(model, rec, comparison, unit, picks, figures_dir) -> str:
                      f"(dE = 0) = {num(d['intrinsic_barrier'], 4)} {esc(unit)}; Leffler α at dE = 0: "
                      f"{num(d['alpha_at_zero'], 3)}.</p>")
     if curve.identifiability_ is not None:
-        parts.append(f"<p><b>Identifiability.</b> {esc(identifiability_text(in_unit(curve.identifiability_.as_dict(), unit), unit))}</p>")
+        parts.append(f"<p><b>Identifiability.</b> "
+                     f"{esc(identifiability_text(in_unit(curve.identifiability_, unit), unit))}</p>")
     rrow = [[esc(name) + (" (best)" if name == comparison.best else ""), "skipped", "", "", ""] if s.fit is None else
             [esc(name) + (" (best)" if name == comparison.best else ""), num(to_unit(s.rmse, unit)),
              num(to_unit(s.loo_mae, unit)), num(to_unit(s.loo_rmse, unit)), num(s.aicc, 4)]
@@ -137,21 +137,21 @@ def _diagnostics(model, rec, unit, screen, figures_dir) -> str:
                      "stage's standardised descriptor space; a member beyond the threshold (the 95th percentile of "
                      "the training members' own leave-one-out distances) is flagged, as is a reaction energy outside "
                      f"the training span {num(lo)} to {num(hi)} {esc(unit)}.</p>")
-        lib = None if screen is None else screen.get("distances")
+        lib = None if screen is None else screen.distances
         parts.append(figure(fg.domain_png(model.domain.train_distances_, model.domain.threshold_, lib),
                             "Applicability-domain distances of the training set" +
                             (" and of the screened library." if lib else "."), "domain", figures_dir))
     return "".join(parts)
 
 
-def build_report(model, record: dict, comparison, source: str = "", screen: dict | None = None,
-                 picks: dict | None = None, figures_dir: Path | None = None, extra_sections=()) -> str:
-    """The report's HTML. ``record``: the fit record (kcal/mol); ``comparison``: every relation
-    on the training pairs; ``screen``: a screen summary dict; ``picks``: a suggest record;
+def build_report(model, record, comparison, source: str = "", screen=None, picks=None,
+                 figures_dir: Path | None = None, extra_sections=()) -> str:
+    """The report's HTML. ``record``: the FitRecord (kcal/mol); ``comparison``: every relation
+    on the training pairs; ``screen``: a ScreenSummary; ``picks``: a SuggestRecord;
     ``extra_sections``: HTML sections from other views (already escaped)."""
     unit = model.units
     rec = in_unit(record, unit)
-    pick_list = None if picks is None else picks["picks"]
+    pick_list = None if picks is None else picks.picks
     parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>barrierscope report</title>"
              f"<style>{STYLE}</style></head><body>",
              f"<h1>barrierscope report</h1><p class='muted'>{esc(source)} · {rec['n']} members · "
@@ -160,7 +160,7 @@ def build_report(model, record: dict, comparison, source: str = "", screen: dict
              f"<div class='caution'>{esc(CAUTION)}</div>",
              f"<h2>Verdict</h2><div class='verdict'>{esc(verdict_text(rec, unit, model.tiers))}</div>",
              _validation(rec, unit), _members(rec, unit, model), _curve(model, rec, comparison, unit, pick_list, figures_dir),
-             hammett_section(record.get("hammett"), model.training["barrier"], unit, figures_dir),
+             hammett_section(record.hammett, model.training["barrier"], unit, figures_dir),
              families_section(record, model, unit, figures_dir),
              _diagnostics(model, rec, unit, screen, figures_dir), *extra_sections]
     notes = list(rec.get("warnings", [])) + list(rec.get("notes", []))

@@ -15,7 +15,8 @@ from .suggest_text import suggest_json
 from .units import in_unit
 
 
-def screen_section(summary: dict, unit: str, mode: str = "", structure_columns=()) -> str:
+def screen_section(summary, unit: str, mode: str = "", structure_columns=()) -> str:
+    """``summary``: a ScreenSummary (kcal/mol)."""
     s = in_unit(summary, unit)
     errors = ", ".join(f"{k} {v}" for k, v in s["errors"].items()) or "none"
     parts = ["<h2>Screened library</h2>",
@@ -28,7 +29,8 @@ def screen_section(summary: dict, unit: str, mode: str = "", structure_columns=(
         parts.append(f"<p><b>{s['at_floor']} rows have barrier intervals that reach the floor</b> "
                      f"({where} {esc(unit)}): the model cannot order them by barrier; they share rank 1.</p>")
     if s.get("top"):
-        rows = [[esc(str(r["id"])), depict.cell({c: r.get(c) for c in structure_columns}, mode), num(r["barrier"]),
+        rows = [[esc(str(r["id"])), depict.cell({c: r["structure"].get(c) for c in structure_columns}, mode),
+                 num(r["barrier"]),
                  f"{num(r['low'])} to {num(r['high'])}", num(r["alpha"], 2),
                  esc(format_duration(r["half_life_s"])) if r["half_life_s"] == r["half_life_s"] else "—",
                  "yes" if r["in_domain"] else "<span class='flag'>no</span>"] for r in s["top"]]
@@ -38,7 +40,7 @@ def screen_section(summary: dict, unit: str, mode: str = "", structure_columns=(
     return "".join(parts)
 
 
-def picks_section(result: dict, mode: str = "") -> str:
+def picks_section(result, mode: str = "") -> str:
     s = suggest_json(result)
     rows = [[str(k + 1), esc(p["id"]), depict.cell(p.get("structure"), mode), num(p["score"]),
              f"{num(p['energy'])} ± {num(p['energy_sd'], 2)}", esc(p["reason"])] for k, p in enumerate(s["picks"])]
@@ -49,8 +51,8 @@ def picks_section(result: dict, mode: str = "") -> str:
             table(["pick", "id", "structure", "score", f"dE ({esc(s['units'])})", "why"], rows))
 
 
-def hammett_section(hammett: dict | None, barrier_kcal, unit: str, figures_dir=None) -> str:
-    """The Hammett plot with ρ and its interval; ``hammett`` in kcal/mol."""
+def hammett_section(hammett, barrier_kcal, unit: str, figures_dir=None) -> str:
+    """The Hammett plot with ρ and its interval; ``hammett`` a HammettRecord (kcal/mol) or None."""
     from .figures import hammett_png
     from .html import figure
 
@@ -73,16 +75,16 @@ def hammett_section(hammett: dict | None, barrier_kcal, unit: str, figures_dir=N
                          "least-squares line.", "hammett", figures_dir)
 
 
-def families_section(record: dict, model, unit: str, figures_dir=None) -> str:
+def families_section(record, model, unit: str, figures_dir=None) -> str:
     """Several families: the side-by-side table, the evidence for sharing, validation by
-    member and by family, and every family's curve; ``record`` in kcal/mol."""
+    member and by family, and every family's curve; ``record`` a FitRecord (kcal/mol)."""
     from .families_text import DERIVED, ROUTES, sharing_sentence
     from .figures import families_png
     from .html import figure
 
-    if not record.get("families"):
+    if not record.families:
         return ""
-    r = in_unit({k: record[k] for k in ("families", "sharing_test", "family_validation")}, unit)
+    r = in_unit(record, unit)
     first = next(iter(r["families"].values()))
     params, derived = list(first["params"]), [d for d in DERIVED if d in first["derived"]]
     rows = []
@@ -96,15 +98,16 @@ def families_section(record: dict, model, unit: str, figures_dir=None) -> str:
     val = [[esc(regime.replace("_", " "))] + [f"{num(v['routes'][h]['mae'])} · {num(v['routes'][h]['rmse'])}"
                                               if h in v["routes"] else "—" for h in heads]
            for regime, v in ran.items()]
-    names = record["family_names"]
+    names = record.family_names
     codes = np.array([names.index(f) for f in model.training["families"]])
-    png = families_png(record, model.training["energy"], model.training["barrier"], codes, names, unit)
-    shared = ", ".join(record["shared"]) or "nothing"
-    return (f"<h2>Families</h2><p>The families in column <code>{esc(record['family_column'])}</code>, fitted "
+    png = families_png(record.families, model.joint["fit"].relation.name, record.shared, model.training["energy"],
+                       model.training["barrier"], codes, names, unit)
+    shared = ", ".join(record.shared) or "nothing"
+    return (f"<h2>Families</h2><p>The families in column <code>{esc(record.family_column)}</code>, fitted "
             f"jointly with {esc(shared)} shared (95 % intervals: profile-t for parameters, delta method for the "
             f"rest; {esc(unit)}). The validation regimes above use one curve for every family; the model predicts "
             f"through each family's own.</p>" +
             table(["family", "n", *map(esc, params), *[esc(DERIVED[d]) for d in derived]], rows) +
-            f"<p>Evidence for sharing: {esc(sharing_sentence(r['sharing_test'], record['shared']))}.</p>" +
+            f"<p>Evidence for sharing: {esc(sharing_sentence(r['sharing_test'], record.shared))}.</p>" +
             table(["validation (MAE · RMSE)", *[esc(ROUTES.get(h, h)) for h in heads]], val) +
             figure(png, "Every family's members and its jointly fitted curve.", "families", figures_dir))

@@ -11,8 +11,10 @@ from .cautions import CAUTION, rate_note
 from .units import in_unit
 
 
-def format_screen(summary: dict, unit: str, energy_kind: str) -> str:
+def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) -> str:
+    """``summary``: a ScreenSummary (kcal/mol); ``top`` rows of it shown (all by default)."""
     s = in_unit(summary, unit)
+    s["top"] = s["top"][:top] if top is not None else s["top"]
     lines = [f"{s['rows']} rows screened in {s['seconds']:.1f} s: {s['ok']} ok, {s['rows'] - s['ok']} with errors, "
              f"{s['out_of_domain']} of the ok rows outside the applicability domain; "
              f"{s['energy_given']} used a given reaction energy"]

@@ -42,9 +42,9 @@ def reason(p: dict, unit: str) -> str:
     return "; ".join(parts)
 
 
-def suggest_json(result: dict) -> dict:
-    """The record in its own unit, each pick with its reason."""
-    out = in_unit(result, result["units"])
+def suggest_json(result) -> dict:
+    """The SuggestRecord in its own unit, each pick with its reason."""
+    out = in_unit(result, result.units)
     for p in out["picks"]:
         p["reason"] = reason(p, out["units"])
     return out
