@@ -145,10 +145,13 @@ def test_batched_evaluation_matches_single(name):
 
 def test_intrinsic_barrier_and_derived():
     f, m, w = 4.0, -10.0, 5.0
-    assert intrinsic_barrier(f, m, w) == pytest.approx(asymptotic_barrier(0.0, f, m, w))
+    # Worked by hand: at dE = 0, (dE − M)/W = 2; F + W ln(1 + e²) = 4 + 5 ln(8.3890561) = 4 + 5 × 2.1269280
+    # = 14.634640 kcal/mol; α(0) = σ(2) = 1/(1 + e⁻²) = 1/1.1353353 = 0.88079708; U = F − M = 14.
+    assert intrinsic_barrier(f, m, w) == pytest.approx(14.634640, abs=1e-6)
+    assert asymptotic_barrier(0.0, f, m, w) == pytest.approx(14.634640, abs=1e-6)
     d = ASYM.derived(np.array([f, m, w]))
     assert d["uphill_excess"] == 14.0
-    assert d["alpha_at_zero"] == pytest.approx(1 / (1 + np.exp(-2.0)))
+    assert d["alpha_at_zero"] == pytest.approx(0.88079708, abs=1e-8)
     assert ASYM.reverse(np.array([f, m, w])).tolist() == [14.0, 10.0, 5.0]
 
 
