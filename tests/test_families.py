@@ -216,3 +216,20 @@ def test_screen_and_suggest_with_a_family_column(family_model, tmp_path):
     s = json.loads(r.stdout)
     assert s["already_computed"] == 5 and s["considered"] == 5
     assert {p["id"] for p in s["picks"]} <= {f"n{i}" for i in range(5)}
+
+
+def test_a_joint_fit_keeps_its_bounds_through_a_model_file():
+    # Profile intervals search within the fit's bounds: a reloaded joint fit must still have them.
+    import json
+
+    from barrierscope.curves.joint import JointFit
+    from barrierscope.curves.joint_intervals import joint_profile_intervals
+    from barrierscope.jobs.families import family_codes
+
+    x, y, lab = invented(2)
+    _, fit, fam, _ = joint_record(x, y, lab, validate=False)
+    again = JointFit.from_dict(json.loads(json.dumps(fit.as_dict())))
+    assert all(np.array_equal(a, b) for a, b in zip(fit.bounds, again.bounds)) and len(again.bounds) == 2
+    first, second = (joint_profile_intervals(f, x, y, family_codes(lab)[0]) for f in (fit, again))
+    assert all(first[i].low == pytest.approx(second[i].low) and first[i].high == pytest.approx(second[i].high)
+               for i in first)

@@ -171,3 +171,19 @@ def test_a_core_found_twice_that_reads_the_same_is_accepted():
     # read as R1 = 4-carboxyphenyl, so the molecule is not ambiguous.
     d = CoreDecomposer("OC(=O)c1ccc([*:1])cc1")
     assert d.decompose_smiles("OC(=O)c1ccc(-c2ccc(C(=O)O)cc2)cc1") == ("*c1ccc(C(=O)O)cc1",)
+
+
+def test_rdkit_logging_is_blocked_per_call_and_left_as_it_was():
+    # barrierscope reports bad structures per row; RDKit's own log settings outside its calls
+    # are the user's (a notebook's), so they must come back exactly as they were.
+    from rdkit import rdBase
+
+    from barrierscope.structures.resolve import resolve_structures
+
+    before = rdBase.LogStatus()
+    with pytest.raises(StructureError):
+        molecule_key("C1CC(")
+    import pandas as pd
+
+    resolve_structures(pd.DataFrame({"_row": [1, 2], "m": ["C1CC(", "CCO"]}), make_spec(molecule="m"))
+    assert rdBase.LogStatus() == before and "rdApp.error:enabled" in before

@@ -132,21 +132,20 @@ class Family:
 
 def fit(data, energy: str, barrier: str, *, substituents: str | None = None, molecule: str | None = None,
         core: str | None = None, reaction: str | None = None, template: str | None = None,
-        multiplicity: str | None = None, tiers: str = "2d,table", cache_dir="default", **options) -> Family:
-    """Fit and validate a family, as `barrierscope fit` does. ``data`` is a DataFrame or a path;
-    ``options`` are those of :class:`barrierscope.jobs.fit.FitOptions` (learner, relation,
-    units, energy_kind, extra_descriptors, id_column, n_shuffles, ...)."""
-    from .jobs.fit import FitOptions, fit_family
-    from .jobs.setup import descriptor_engine, structure_spec
+        multiplicity: str | None = None, tiers: str = "2d,table", cache_dir="default", workers: int = 1,
+        xtb_level: str = "sp", solvent: str | None = None, **options) -> Family:
+    """Fit and validate a family, as `barrierscope fit` does (the same path, the same checks).
+    ``data`` is a DataFrame or a path; ``options`` are those of
+    :class:`barrierscope.jobs.fit.FitOptions` (learner, relation, units, energy_kind,
+    extra_descriptors, id_column, n_shuffles, ...)."""
+    from .jobs.fit import EngineOptions, FitOptions, fit_table
 
     df, source = _as_table(data)
-    spec = structure_spec(substituents, molecule, core, reaction, template, multiplicity)
-    opts = FitOptions(energy_column=energy, barrier_column=barrier, **options)
-    if spec.mode == "none":
-        model, record = fit_family(df, source, spec, None, opts)
-    else:
-        with descriptor_engine(tiers, cache_dir) as engine:
-            model, record = fit_family(df, source, spec, engine, opts)
+    structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
+                     multiplicity=multiplicity)
+    model, record = fit_table(df, source, structure, FitOptions(energy_column=energy, barrier_column=barrier, **options),
+                              EngineOptions(tiers=tiers, cache_dir=cache_dir, workers=workers, xtb_level=xtb_level,
+                                            solvent=solvent))
     return Family(model, record)
 
 

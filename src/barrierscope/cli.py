@@ -247,7 +247,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
         as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table.")):
     """Fit a family, validate every route in every regime, and write the model file."""
     from .jobs.families import parse_share
-    from .jobs.fit import FitOptions, fit_file
+    from .jobs.fit import EngineOptions, FitOptions, fit_file
     from .views.fit_text import fit_json, format_fit
 
     extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
@@ -255,9 +255,12 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
                       energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
                       n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals,
                       family_column=family, share=parse_share(share))
-    model, record = fit_file(data, output, (substituents, molecule, core, reaction, template, multiplicity), tiers,
-                             opts, cache_dir=cache_dir, workers=workers, scheduler=scheduler, xtb_level=xtb_level,
-                             solvent=solvent, members=members, report=report, figures=figures)
+    structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
+                     multiplicity=multiplicity)
+    model, record = fit_file(data, output, structure, opts,
+                             EngineOptions(tiers=tiers, cache_dir=cache_dir if cache_dir is not None else "default",
+                                           workers=workers, scheduler=scheduler, xtb_level=xtb_level,
+                                           solvent=solvent), members=members, report=report, figures=figures)
     warn(record.warnings)
     if as_json:
         print_json(fit_json(record, model.tiers))

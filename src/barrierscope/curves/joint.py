@@ -155,16 +155,18 @@ class JointFit:
         return {"relation": self.relation.name, "param_names": list(self.layout.param_names),
                 "shared": list(self.layout.shared), "n_families": self.layout.n_families, "u": self.u.tolist(),
                 "cov": self.cov.tolist(), "rss": self.rss, "n": self.n, "n_per_family": self.n_per_family.tolist(),
-                "at_bound": list(self.at_bound)}
+                "at_bound": list(self.at_bound),
+                "bounds": [np.asarray(b, dtype=float).tolist() for b in self.bounds] if self.bounds else None}
 
     @classmethod
     def from_dict(cls, d: dict) -> "JointFit":
         from ..relations import get_relation
 
         layout = JointLayout(tuple(d["param_names"]), tuple(d["shared"]), int(d["n_families"]))
+        bounds = tuple(np.asarray(b, dtype=float) for b in d["bounds"]) if d.get("bounds") else ()
         return cls(get_relation(d["relation"]), layout, np.asarray(d["u"], dtype=float),
                    np.asarray(d["cov"], dtype=float), float(d["rss"]), int(d["n"]),
-                   np.asarray(d["n_per_family"], dtype=int), tuple(d.get("at_bound", ())))
+                   np.asarray(d["n_per_family"], dtype=int), tuple(d.get("at_bound", ())), bounds)
 
 
 def family_bounds(rel: Relation, layout: JointLayout, x, y, fam) -> tuple[np.ndarray, np.ndarray]:

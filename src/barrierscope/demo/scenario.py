@@ -16,6 +16,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from ..structures.checks import quietly
+
 CORE = "CC(=O)c1ccc([*:1])c([*:2])c1"
 
 #: The invented truth (kcal/mol; coefficients per unit of σ or of MR in cm³/mol).
@@ -96,12 +98,10 @@ def _truth(pairs, rng):
     return energy, barrier
 
 
+@quietly
 def make_family(size: int | None = None, seed: int | None = None) -> pd.DataFrame:
     """The 'computed' members: id, smiles, R1, R2 (as written), dG_r and dG_act in kcal/mol.
     ``size`` and ``seed`` make other invented families of the same kind (benchmarks)."""
-    from ..structures.checks import quiet_rdkit
-
-    quiet_rdkit()
     groups = _groups()
     rng = np.random.default_rng(TRUTH["seeds"]["family"] if seed is None else seed)
     # Spread the para group over the whole σp range so the curvature shows.
@@ -117,12 +117,10 @@ def make_family(size: int | None = None, seed: int | None = None) -> pd.DataFram
     })
 
 
+@quietly
 def make_library(family: pd.DataFrame | None = None) -> pd.DataFrame:
     """Unsynthesised analogues: id, smiles; 200 of them carry a 'computed' dG_r (the cheap
     calculation done ahead of transition states); the last rows are deliberately broken."""
-    from ..structures.checks import quiet_rdkit
-
-    quiet_rdkit()
     family = make_family() if family is None else family
     groups = _groups()
     rng = np.random.default_rng(TRUTH["seeds"]["library"])

@@ -41,7 +41,7 @@ import numpy as np
 from rdkit import Chem
 from rdkit.Chem import Crippen, Descriptors, rdMolDescriptors, rdPartialCharges
 
-from ..structures.checks import quiet_rdkit
+from ..structures.checks import quietly
 from ..structures.substituent import (
     HYDROGEN_KEY,
     attachment_index,
@@ -91,9 +91,9 @@ def _gasteiger(mol: Chem.Mol) -> list[float]:
     return out
 
 
+@quietly
 def substituent_descriptors(key: str) -> dict[str, float]:
     """2D descriptors of the substituent with canonical key ``key``."""
-    quiet_rdkit()
     frag = substituent_mol(key)
     capped = capped_with_hydrogen(key)
     star = attachment_index(frag, key)

@@ -109,14 +109,11 @@ def reaction_roles(rxn_smiles: str) -> CycloadditionRoles:
 def load_cycloaddition(path: str | os.PathLike) -> pd.DataFrame:
     """The dataset with role columns added: dipole, dipolarophile, product, dipole_class,
     partner_bond, and ``family`` = dipole_class + '/' + partner_bond."""
-    from rdkit import RDLogger
+    from ..structures.checks import quiet_rdkit
 
     df = pd.read_csv(path)
-    RDLogger.DisableLog("rdApp.*")
-    try:
+    with quiet_rdkit():
         roles = [reaction_roles(s) for s in df["rxn_smiles"]]
-    finally:
-        RDLogger.EnableLog("rdApp.*")
     df["dipole"] = [r.dipole for r in roles]
     df["dipolarophile"] = [r.dipolarophile for r in roles]
     df["product"] = [r.product for r in roles]

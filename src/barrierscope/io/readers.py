@@ -168,7 +168,9 @@ def _frame(columns, rows, row_numbers) -> pd.DataFrame:
 
 
 def sdf_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame]:
-    from rdkit import Chem, RDLogger
+    from rdkit import Chem
+
+    from ..structures.checks import quiet_rdkit
 
     head = _check_file(path)
     _decode_head(path, head)
@@ -176,36 +178,34 @@ def sdf_chunks(path: Path, chunk_size: int | None) -> Iterator[pd.DataFrame]:
     records: list[dict] = []
     number = 0
     any_rows = False
-    RDLogger.DisableLog("rdApp.*")
-    try:
-        with open(path, "rb") as fh:
-            supplier = Chem.ForwardSDMolSupplier(fh, sanitize=True, removeHs=True)
-            while True:
-                try:
+    # RDKit's chatter is blocked record by record: this generator pauses between chunks.
+    with open(path, "rb") as fh:
+        supplier = Chem.ForwardSDMolSupplier(fh, sanitize=True, removeHs=True)
+        while True:
+            try:
+                with quiet_rdkit():
                     mol = next(supplier)
-                except StopIteration:
-                    break
-                except Exception as exc:  # RDKit raises on some malformed blocks
-                    mol, err = None, str(exc)
-                else:
-                    err = ""
-                number += 1
-                rec: dict = {ROW: number}
-                if mol is None:
-                    rec.update({"smiles": "", "id": "", READ_ERROR: err or "SDF record is not a valid molecule"})
-                else:
-                    rec["smiles"] = Chem.MolToSmiles(mol)
-                    rec["id"] = mol.GetProp("_Name") if mol.HasProp("_Name") else ""
-                    for key in mol.GetPropNames():
-                        rec[key] = mol.GetProp(key)
-                    rec[READ_ERROR] = ""
-                records.append(rec)
-                if len(records) >= size:
-                    any_rows = True
-                    yield _records_frame(records)
-                    records = []
-    finally:
-        RDLogger.EnableLog("rdApp.*")
+            except StopIteration:
+                break
+            except Exception as exc:  # RDKit raises on some malformed blocks
+                mol, err = None, str(exc)
+            else:
+                err = ""
+            number += 1
+            rec: dict = {ROW: number}
+            if mol is None:
+                rec.update({"smiles": "", "id": "", READ_ERROR: err or "SDF record is not a valid molecule"})
+            else:
+                rec["smiles"] = Chem.MolToSmiles(mol)
+                rec["id"] = mol.GetProp("_Name") if mol.HasProp("_Name") else ""
+                for key in mol.GetPropNames():
+                    rec[key] = mol.GetProp(key)
+                rec[READ_ERROR] = ""
+            records.append(rec)
+            if len(records) >= size:
+                any_rows = True
+                yield _records_frame(records)
+                records = []
     if records:
         any_rows = True
         yield _records_frame(records)

@@ -15,9 +15,6 @@ def _worker_init() -> None:
     # Each worker does small molecules one at a time: one BLAS/OpenMP thread each.
     for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ[var] = "1"
-    from ..structures.checks import quiet_rdkit
-
-    quiet_rdkit()
 
 
 class SerialExecutor:

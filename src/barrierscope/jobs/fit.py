@@ -255,28 +255,50 @@ def _versions(engine) -> dict:
     return {t: TIERS[t].version for t in getattr(engine, "tiers", ())}
 
 
-def fit_file(data, output, structure, tiers: str, opts: FitOptions, *, cache_dir=None, workers: int = 1,
-             scheduler=None, xtb_level: str = "sp", solvent=None, members=None, report=None, figures=None):
-    """The `fit` command: read, fit, validate, write the model (and the member table and the
-    report when asked). Returns (model, record)."""
+@dataclass(frozen=True)
+class EngineOptions:
+    """Where descriptors come from: tiers, cache, workers, and GFN2-xTB settings."""
+
+    tiers: str = "2d,table"
+    cache_dir: object = "default"
+    workers: int = 1
+    scheduler: str | None = None
+    xtb_level: str = "sp"
+    solvent: str | None = None
+
+
+def fit_table(df, source: str, structure: dict, opts: FitOptions, engine_opts: EngineOptions = EngineOptions()):
+    """The one path from a table to a fitted family, for the command line and the Python API:
+    the structure options (``structure``: substituents, molecule, core, reaction, template,
+    multiplicity) checked together with the tiers, the descriptor engine set up and closed,
+    and :func:`fit_family`. Returns (model, record)."""
     import contextlib
 
-    from ..io import modelfile
-    from ..io.tables import detect_format, read_table, write_table
-    from ..views.members import members_frame
-    from .report import write_report
     from .setup import descriptor_engine, structure_spec
 
-    spec = structure_spec(*structure)
-    if spec.mode == "none" and tiers != "2d,table":
+    spec = structure_spec(**structure)
+    e = engine_opts
+    if spec.mode == "none" and e.tiers != "2d,table":
         raise InputError("--tiers needs a structure input (--substituents, --molecule, --reaction or --template)")
-    engine_cm = (descriptor_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent) if spec.mode != "none"
-                 else contextlib.nullcontext(None))
+    engine_cm = (descriptor_engine(e.tiers, e.cache_dir, e.workers, e.scheduler, e.xtb_level, e.solvent)
+                 if spec.mode != "none" else contextlib.nullcontext(None))
     with engine_cm as engine:
         if engine is not None and not engine.tiers and not opts.extra_descriptors:
             raise InputError("--tiers none leaves no descriptors: add --extra-descriptors, or drop the structure "
                              "options for a curve-only model")
-        model, record = fit_family(read_table(data), str(data), spec, engine, opts)
+        return fit_family(df, source, spec, engine, opts)
+
+
+def fit_file(data, output, structure: dict, opts: FitOptions, engine_opts: EngineOptions = EngineOptions(), *,
+             members=None, report=None, figures=None):
+    """The `fit` command: read, fit, validate, write the model (and the member table and the
+    report when asked). Returns (model, record)."""
+    from ..io import modelfile
+    from ..io.tables import detect_format, read_table, write_table
+    from ..views.members import members_frame
+    from .report import write_report
+
+    model, record = fit_table(read_table(data), str(data), structure, opts, engine_opts)
     modelfile.save(model.as_dict(), output)
     if members is not None:
         # Rounded for reading (CSV/TSV); full precision in Parquet, as for screens.

@@ -14,7 +14,7 @@ import numpy as np
 from rdkit import Chem
 from rdkit.Chem import AllChem
 
-from ..structures.checks import StructureError, quiet_rdkit
+from ..structures.checks import StructureError, quietly
 
 
 @dataclass
@@ -42,6 +42,7 @@ def conformer_count(mol: Chem.Mol, requested: int | None = None) -> int:
     return int(min(3 + 2 * rot, 12))
 
 
+@quietly
 def build_ensemble(smiles_or_mol, n_conformers: int | None = None, seed: int = 0xB5,
                    max_iters: int = 2000, both_force_fields: bool = False) -> Ensemble:
     """Embed and force-field-optimise conformers, lowest force-field energy first.
@@ -52,7 +53,6 @@ def build_ensemble(smiles_or_mol, n_conformers: int | None = None, seed: int = 0
     above its GFN2-xTB minimum, its UFF geometry about 26), so a later GFN2-xTB single
     point picks whichever is lower.
     """
-    quiet_rdkit()
     mol = Chem.MolFromSmiles(smiles_or_mol) if isinstance(smiles_or_mol, str) else Chem.Mol(smiles_or_mol)
     if mol is None:
         raise StructureError(f"cannot parse {smiles_or_mol!r}", "unparseable")

@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
+import functools
 import re
 
-from rdkit import Chem, RDLogger
+from rdkit import Chem, rdBase
 
 _SPACE = re.compile(r"\s")
 _EXPLICIT_H = re.compile(r"\[\d*H[^a-z]")
@@ -24,15 +25,21 @@ class StructureError(ValueError):
         self.kind = kind
 
 
-_quiet = False
+def quiet_rdkit():
+    """A scope (``with quiet_rdkit(): ...``) in which RDKit's own stderr chatter is blocked:
+    barrierscope reports problems per row instead. RDKit's logging is back as it was when the
+    scope ends (``rdBase.BlockLogs``), so a notebook that imports barrierscope keeps its logs."""
+    return rdBase.BlockLogs()
 
 
-def quiet_rdkit() -> None:
-    """Silence RDKit's own stderr chatter; barrierscope reports problems per row instead."""
-    global _quiet
-    if not _quiet:
-        RDLogger.DisableLog("rdApp.*")
-        _quiet = True
+def quietly(fn):
+    """``fn`` run inside :func:`quiet_rdkit`."""
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        with quiet_rdkit():
+            return fn(*args, **kwargs)
+
+    return wrapper
 
 
 #: Sanitisation without the stereo clean-ups (chiral tags on atoms that cannot be stereocentres,
@@ -43,10 +50,10 @@ _CHECK_ONLY = (Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_CLE
                ^ Chem.SanitizeFlags.SANITIZE_CLEANUPATROPISOMERS)
 
 
+@quietly
 def parse_smiles(text: str, what: str = "SMILES", cleanup: bool = True) -> Chem.Mol:
     """A sanitised molecule from ``text``, or :class:`StructureError` saying what is wrong;
     ``cleanup=False`` skips the stereo clean-ups (see :data:`_CHECK_ONLY`)."""
-    quiet_rdkit()
     if text is None:
         raise StructureError(f"empty {what}", "empty")
     s = str(text).strip()

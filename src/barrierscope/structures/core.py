@@ -26,6 +26,7 @@ from .checks import (
     StructureError,
     check_elements_and_size,
     parse_smiles,
+    quietly,
 )
 from .substituent import HYDROGEN_KEY, canonical_key_from_mol
 
@@ -37,6 +38,7 @@ class CoreError(ValueError):
 class CoreDecomposer:
     """Decompose molecules at ``core_smiles``; positions are named ``R<n>`` from the map numbers."""
 
+    @quietly
     def __init__(self, core_smiles: str):
         self.core_smiles = core_smiles
         core = Chem.MolFromSmiles(core_smiles)

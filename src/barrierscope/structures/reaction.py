@@ -25,7 +25,7 @@ from .checks import (
     StructureError,
     check_elements_and_size,
     parse_smiles,
-    quiet_rdkit,
+    quietly,
 )
 
 
@@ -106,9 +106,9 @@ def _multiplicities(text: str | None, n_left: int, n_right: int):
     return ml, mr
 
 
+@quietly
 def parse_reaction(text: str, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS, multiplicity: str | None = None) -> Reaction:
     """A balanced :class:`Reaction` from reaction SMILES, or :class:`StructureError`."""
-    quiet_rdkit()
     s = "" if text is None else str(text).strip()
     if not s:
         raise StructureError("empty reaction SMILES", "empty")
@@ -134,8 +134,8 @@ def parse_reaction(text: str, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS, multipli
 class ReactionTemplate:
     """``REACTANTS>>PRODUCTS`` with numbered attachment points, filled per row."""
 
+    @quietly
     def __init__(self, template: str):
-        quiet_rdkit()
         self.template = template
         try:
             left, right = template.split(">>")
@@ -160,6 +160,7 @@ class ReactionTemplate:
             raise ValueError(f"template species {text!r}: attachment points need numbers, as in [*:1]")
         return mol, nums
 
+    @quietly
     def build(self, substituent_keys: list[str], max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> Reaction:
         """The reaction with attachment n filled by ``substituent_keys[n - 1]`` (canonical keys)."""
         if len(substituent_keys) < max(self.numbers):

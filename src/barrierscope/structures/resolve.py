@@ -14,7 +14,7 @@ import numpy as np
 import pandas as pd
 
 from ..io.tables import READ_ERROR
-from .checks import DEFAULT_MAX_HEAVY_ATOMS, StructureError
+from .checks import DEFAULT_MAX_HEAVY_ATOMS, StructureError, quietly
 from .spec import InputSpec
 
 
@@ -82,6 +82,7 @@ def substituent_columns(df: pd.DataFrame, columns, errors, kinds) -> dict[str, n
     return keys
 
 
+@quietly
 def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> Resolution:
     """Canonical units of every row of ``df`` according to ``spec``.
 

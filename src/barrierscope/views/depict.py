@@ -18,14 +18,13 @@ _ACTIVE = re.compile(r"<\s*script|\bon[a-z]+\s*=|href|<\s*foreignObject|javascri
 
 
 def _plain(smiles: str):
-    from rdkit import Chem, RDLogger
+    from rdkit import Chem
 
-    RDLogger.DisableLog("rdApp.*")
-    try:
+    from ..structures.checks import quiet_rdkit
+
+    with quiet_rdkit():
         mol = Chem.MolFromSmiles(smiles)
         return None if mol is None else Chem.MolFromSmiles(Chem.MolToSmiles(mol))
-    finally:
-        RDLogger.EnableLog("rdApp.*")
 
 
 def _finish(drawer) -> str:
