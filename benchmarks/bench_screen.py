@@ -77,7 +77,7 @@ def fit_model(folder: Path, cache: Path) -> Path:
     from barrierscope.structures.spec import make_spec
 
     model, _ = fit_family(read_table(fam), str(fam), make_spec(molecule="smiles", core=CORE),
-                          DescriptorEngine(("2d", "table"), DescriptorCache(cache)), FitOptions("dE", "dG", n_shuffles=0, skip_bad_rows=True))
+                          DescriptorEngine(("2d", "table"), DescriptorCache(cache)), opts=FitOptions("dE", "dG", n_shuffles=0, skip_bad_rows=True))
     path = folder / "model.json"
     modelfile.save(model.as_dict(), path)
     return path
@@ -155,7 +155,7 @@ def main() -> None:
         fam["R1"], fam["R2"] = [c[0] for c in combos[:30]], [c[1] for c in combos[:30]]
         fam.to_csv(folder / "family_subs.csv", index=False)
         m2, _ = fit_family(read_table(folder / "family_subs.csv"), "family_subs.csv", make_spec(substituents="R1,R2"),
-                           DescriptorEngine(("2d", "table"), DescriptorCache(cache)), FitOptions("dE", "dG", n_shuffles=0))
+                           DescriptorEngine(("2d", "table"), DescriptorCache(cache)), opts=FitOptions("dE", "dG", n_shuffles=0))
         modelfile.save(m2.as_dict(), folder / "model_subs.json")
         sub = screen(folder / "model_subs.json", subs, folder / "osub.csv", 1, cache)
         print(f"substituent mode, cached:    {sub['rows'] / sub['seconds']:10.0f} rows/s (target > 100000)")

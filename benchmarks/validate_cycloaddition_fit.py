@@ -47,7 +47,7 @@ def run(max_n: int = 50, tiers=("2d",), shuffles: int = 0, limit: int | None = N
         if limit is not None and k >= limit:
             break
         model, s = fit_family(sub, str(path), make_spec(molecule="product"), DescriptorEngine(tiers),
-                              FitOptions("G_r", "G_act", n_shuffles=shuffles))
+                              opts=FitOptions("G_r", "G_act", n_shuffles=shuffles))
         rows.append((name, s.as_dict()))
     return rows
 

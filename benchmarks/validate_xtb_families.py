@@ -54,7 +54,7 @@ def main() -> None:
             for label, tiers in (("2d", ("2d",)), ("xtb", ("2d", "xtb"))):
                 engine = DescriptorEngine(tiers, cache, executor=executor, xtb_settings=settings)
                 _, rec = fit_family(sub, "cycloaddition", make_spec(reaction="rxn_smiles"), engine,
-                                  FitOptions("G_r", "G_act", n_shuffles=0, skip_bad_rows=True))
+                                  opts=FitOptions("G_r", "G_act", n_shuffles=0, skip_bad_rows=True))
                 s = rec.as_dict()
                 cols.setdefault(f"e_{label}", []).append(s["energy_stage"]["mae"])
                 for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy"):

@@ -49,14 +49,14 @@ def test_joint_jacobian_matches_finite_differences():
     fam = np.array(["abcd".index(v) for v in lab])
     lay = JointLayout(("floor", "midpoint", "width"), ("width",), 4)
     u = lay.pack(np.array([[4, -8, 4], [6, -4, 4.5], [3, -10, 3.5], [5, -6, 4.2]], dtype=float))
-    r, jac = residuals_and_jacobian(ASYM, lay, x, y, fam, u)
+    r, jac = residuals_and_jacobian(ASYM, lay, x, y, fam=fam, u=u)
     for i in range(lay.size):
         h = 1e-6 * (1 + abs(u[i]))
         up, dn = u.copy(), u.copy()
         up[i] += h
         dn[i] -= h
-        num = (residuals_and_jacobian(ASYM, lay, x, y, fam, up)[0] -
-               residuals_and_jacobian(ASYM, lay, x, y, fam, dn)[0]) / (2 * h)
+        num = (residuals_and_jacobian(ASYM, lay, x, y, fam=fam, u=up)[0] -
+               residuals_and_jacobian(ASYM, lay, x, y, fam=fam, u=dn)[0]) / (2 * h)
         assert np.allclose(jac[:, i], num, atol=1e-6), i
 
 
@@ -115,7 +115,7 @@ def test_share_choices_and_sizes():
     fam = np.array(["abcd".index(v) for v in lab])
     sel = (fam != 3) | (np.arange(fam.size) % 15 < 2)         # family d with 2 members: too few for F and M
     with pytest.raises(ValueError, match="needs at least 3"):
-        fit_joint(ASYM, x[sel], y[sel], fam[sel], 4, ("width",), separate_fits(ASYM, x[sel], y[sel], fam[sel], 4))
+        fit_joint(ASYM, x[sel], y[sel], fam[sel], n_families=4, shared=("width",), separate=separate_fits(ASYM, x[sel], y[sel], fam[sel], n_families=4))
 
 
 def test_curve_family_cli_contract(tmp_path):

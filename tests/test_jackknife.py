@@ -45,7 +45,7 @@ def test_estimator_equals_the_nested_engine(route):
     from barrierscope.validation import conformal
 
     inner = conformal._inner_splits([Split(np.arange(1, 18), np.array([0]))], 0)
-    preds = conformal._predictions(X, energy, barrier, inner, (route,), {})
+    preds = conformal._predictions(X, energy, barrier, inner, routes=(route,), kw={})
     mu = np.array([[p[1] for p in preds[route]]])
     resid = np.array([abs(barrier[h[0]] - p[0]) for (_, h, _), p in zip(inner, preds[route])])
     elow, ehigh = conformal_bounds(mu, resid, 0.90)
@@ -58,7 +58,7 @@ def test_coverage_near_nominal_on_invented_families():
     cover = []
     for seed in range(4):
         X, energy, barrier = invented_family(30, seed)
-        c = jackknife_coverage(X, energy, barrier, loo_splits(30), ("two_stage",))
+        c = jackknife_coverage(X, energy, barrier, loo_splits(30), routes=("two_stage",))
         cover.append(c["two_stage"].coverage)
     assert 0.80 <= np.mean(cover) <= 0.98, cover
 

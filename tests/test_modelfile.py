@@ -23,7 +23,7 @@ def fitted(tmp_path_factory):
     table = read_table(path)
     spec = make_spec(substituents="R1,R2")
     model, summary = fit_family(table, str(path), spec, DescriptorEngine(("2d", "table")),
-                                FitOptions("dE", "dG", n_shuffles=1))
+                                opts=FitOptions("dE", "dG", n_shuffles=1))
     return model, summary, table
 
 

@@ -25,7 +25,7 @@ def report(tmp_path_factory):
     df.loc[0, "id"] = NASTY  # user text that must not become markup
     df.to_csv(folder / "fam.csv", index=False)
     model, summary = fit_family(read_table(folder / "fam.csv"), str(folder / NASTY), make_spec(substituents="R1,R2"),
-                                DescriptorEngine(("2d", "table")), FitOptions("dE", "dG", n_shuffles=1))
+                                DescriptorEngine(("2d", "table")), opts=FitOptions("dE", "dG", n_shuffles=1))
     summary = replace(summary, warnings=[*summary.warnings, f"a warning quoting {NASTY}"])
     path = folder / "report.html"
     text = write_report(model, summary, path, folder / "figs", source=NASTY)

@@ -19,7 +19,7 @@ def model_path(tmp_path_factory):
     folder = tmp_path_factory.mktemp("screen")
     substituent_family(24, seed=3, path=folder / "fam.csv")
     model, _ = fit_family(read_table(folder / "fam.csv"), "fam.csv", make_spec(substituents="R1,R2"),
-                          DescriptorEngine(("2d", "table")), FitOptions("dE", "dG", n_shuffles=0))
+                          DescriptorEngine(("2d", "table")), opts=FitOptions("dE", "dG", n_shuffles=0))
     path = folder / "model.json"
     modelfile.save(model.as_dict(), path)
     return path

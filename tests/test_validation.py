@@ -217,7 +217,7 @@ def test_downhill_favours_the_physics_route_when_the_black_box_must_extrapolate(
 
     X, energy, barrier = _curved_family(32, seed)
     record = validate(X, energy, barrier, [f"m{i}" for i in range(32)],
-                      ValidationOptions(n_shuffles=0, regimes=("loo", "downhill")))
+                      opts=ValidationOptions(n_shuffles=0, regimes=("loo", "downhill")))
     down = record.validation["downhill"]
     assert down.n_test == 8
     assert down.winner in ("two_stage", "hybrid", "tie")
@@ -234,13 +234,13 @@ def test_the_verdict_says_so_when_the_barrier_does_not_follow_the_reaction_energ
 
     X, energy, barrier = _curved_family(30, 0, barrier_follows_energy=False)
     record = validate(X, energy, barrier, [f"m{i}" for i in range(30)],
-                      ValidationOptions(n_shuffles=0, regimes=("loo",)))
+                      opts=ValidationOptions(n_shuffles=0, regimes=("loo",)))
     assert record.validation["loo"].curve_beats_mean is False
     text = verdict_text(in_unit(record, "kcal/mol"), "kcal/mol")
     assert "does not follow the reaction energy" in text and "weak link" not in text
     # ... and does not say it when the barrier does follow the energy.
     X, energy, barrier = _curved_family(30, 0)
     record = validate(X, energy, barrier, [f"m{i}" for i in range(30)],
-                      ValidationOptions(n_shuffles=0, regimes=("loo",)))
+                      opts=ValidationOptions(n_shuffles=0, regimes=("loo",)))
     assert record.validation["loo"].curve_beats_mean is True
     assert "does not follow" not in verdict_text(in_unit(record, "kcal/mol"), "kcal/mol")

@@ -90,10 +90,10 @@ class Family:
 
         comparison = (compare_relations(self.model.training["energy"], self.model.training["barrier"])
                       if relations else None)
-        return draw_curve(ax, self.model, self.units, comparison, None if picks is None else picks.picks)
+        return draw_curve(ax, self.model, self.units, comparison, picks=None if picks is None else picks.picks)
 
     def screen(self, library, energy: str | None = None, energy_units: str | None = None,
-               temperature="298.15K", transmission: float = 1.0, id_column: str | None = None,
+               temperature="298.15K", *, transmission: float = 1.0, id_column: str | None = None,
                cache_dir="default") -> pd.DataFrame:
         """The screen's table for ``library`` (a DataFrame or a path), full precision; the
         same columns `screen` writes, without the rank."""
@@ -108,16 +108,16 @@ class Family:
                              energy_column=energy or (None if self.model.has_structures else self.model.energy_column),
                              energy_units=normalize_unit(energy_units) if energy_units else None)
         engine = cached_engine(self.model, cache_dir) if self.model.has_structures else None
-        return screen_frame(predict_chunk(self.model, df, source, opts, engine).frame, self.units, rounded=False)
+        return screen_frame(predict_chunk(self.model, df, source, opts, engine=engine).frame, self.units, rounded=False)
 
     def suggest(self, candidates, k: int = 5, goal: str = "parameters", energy: str | None = None,
-                cache_dir="default") -> dict:
+                *, cache_dir="default") -> dict:
         """What to compute next (as `suggest --json` prints it)."""
         from .jobs.suggest import suggest_file
         from .views.suggest_text import suggest_json
 
         table = _as_table(candidates)[0] if isinstance(candidates, pd.DataFrame) else candidates
-        return suggest_json(suggest_file(None, table, k, goal, energy, cache_dir=cache_dir, model=self.model))
+        return suggest_json(suggest_file(None, table, k, goal, energy_column=energy, cache_dir=cache_dir, model=self.model))
 
     def save(self, path) -> None:
         from .io import modelfile
@@ -144,7 +144,7 @@ def fit(data, energy: str, barrier: str, *, substituents: str | None = None, mol
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
                      multiplicity=multiplicity)
     model, record = fit_table(df, source, structure, FitOptions(energy_column=energy, barrier_column=barrier, **options),
-                              EngineOptions(tiers=tiers, cache_dir=cache_dir, workers=workers, xtb_level=xtb_level,
+                              engine_opts=EngineOptions(tiers=tiers, cache_dir=cache_dir, workers=workers, xtb_level=xtb_level,
                                             solvent=solvent))
     return Family(model, record)
 

@@ -174,7 +174,7 @@ def curve(data: Path = typer.Argument(..., help="Table with one row per member (
         from .jobs.curve import families_file
         from .views.families_text import families_json, format_families
 
-        record = families_file(data, energy, barrier, family, share, units, kind, id_column, skip_bad_rows, figure)
+        record = families_file(data, energy, barrier, family, share=share, units=units, kind=kind, id_column=id_column, skip_bad_rows=skip_bad_rows, figure=figure)
         warn(record.warnings)
         shown = families_json(record, record.units)
         print_json(shown) if as_json else typer.echo(format_families(shown))
@@ -182,7 +182,7 @@ def curve(data: Path = typer.Argument(..., help="Table with one row per member (
     from .jobs.curve import curve_file
     from .views.curve_text import curve_json, format_curve
 
-    record = curve_file(data, energy, barrier, units, kind, id_column, loss, intervals, n_bootstrap, skip_bad_rows)
+    record = curve_file(data, energy, barrier, units, kind=kind, id_column=id_column, loss=loss, intervals=intervals, n_bootstrap=n_bootstrap, skip_bad_rows=skip_bad_rows)
     warn(record.warnings)
     shown = curve_json(record, record.units)
     if as_json:
@@ -204,8 +204,10 @@ def descriptors(data: Path = typer.Argument(..., help="Table of structures (CSV,
     """Compute descriptors: one output row per input row, with a status column."""
     from .jobs.describe import run_describe
 
-    table = run_describe(data, output, (substituents, molecule, core, reaction, template, multiplicity), tiers,
-                         id_column, cache_dir, max_atoms, workers, scheduler, xtb_level, solvent)
+    structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
+                     multiplicity=multiplicity)
+    table = run_describe(data, output, structure, tiers, id_column=id_column, cache_dir=cache_dir, max_atoms=max_atoms,
+                         workers=workers, scheduler=scheduler, xtb_level=xtb_level, solvent=solvent)
     if not quiet:
         bad = table["status"] != "ok"
         typer.echo(f"{len(table)} rows: {int((~bad).sum())} ok, {int(bad.sum())} with errors, "
@@ -258,7 +260,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
                      multiplicity=multiplicity)
     model, record = fit_file(data, output, structure, opts,
-                             EngineOptions(tiers=tiers, cache_dir=cache_dir if cache_dir is not None else "default",
+                             engine_opts=EngineOptions(tiers=tiers, cache_dir=cache_dir if cache_dir is not None else "default",
                                            workers=workers, scheduler=scheduler, xtb_level=xtb_level,
                                            solvent=solvent), members=members, report=report, figures=figures)
     warn(record.warnings)
@@ -336,8 +338,8 @@ def suggest(model: Path = typer.Argument(..., help="Model file written by `barri
 
     units = one_unit(units, energy_units)
     fitted = load_model(model)
-    result = suggest_file(model, candidates, k, goal, energy, units, id_column,
-                          str(cache_dir) if cache_dir is not None else "default", model=fitted)
+    result = suggest_file(model, candidates, k, goal, energy_column=energy, energy_units=units, id_column=id_column,
+                          cache_dir=str(cache_dir) if cache_dir is not None else "default", model=fitted)
     if report is not None:
         write_report(fitted, path=report, source=str(candidates), picks=result)
     if as_json:

@@ -51,7 +51,7 @@ def interior(start, lo, hi) -> np.ndarray:
     return np.where(x >= hi, hi - pad_hi, x)
 
 
-def lm_solve(relation: Relation, energy, barrier, weights, theta0, lo, hi, *, max_iter: int = 200,
+def lm_solve(relation: Relation, energy, barrier, weights, *, theta0, lo, hi, max_iter: int = 200,
              tol: float = 1e-10):
     """Projected Levenberg–Marquardt on every row of ``weights`` at once.
 
@@ -78,33 +78,33 @@ def lm_solve(relation: Relation, energy, barrier, weights, theta0, lo, hi, *, ma
     step = max(1, _BLOCK // max(1, x.size * p))
     for s in range(0, m, step):
         sl = slice(s, s + step)
-        theta[sl], cost[sl], converged[sl] = _lm_block(relation, x, y, w[sl], theta[sl], lo[sl], hi[sl],
-                                                       max_iter, tol)
+        theta[sl], cost[sl], converged[sl] = _lm_block(relation, x, y, w[sl], theta=theta[sl], lo=lo[sl], hi=hi[sl],
+                                                       max_iter=max_iter, tol=tol)
     return theta, cost, converged
 
 
-def _cost(relation, x, y, w, theta):
+def _cost(relation, x, y, w, *, theta):
     r = relation.barrier(x, theta) - y
     return np.sum(w * r * r, axis=-1)
 
 
-def _normal_equations(relation, x, y, w, theta):
+def _normal_equations(relation, x, y, w, *, theta):
     """(JᵀWJ, JᵀWr) of each problem at its parameters, from one residual/Jacobian pass."""
     r, jac = relation.residual_and_jacobian(x, theta, y)        # (k, n), (k, n, p)
     jwt = (jac * w[..., None]).transpose(0, 2, 1)               # (k, p, n)
     return jwt @ jac, (jwt @ r[..., None])[..., 0]
 
 
-def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
+def _lm_block(relation, x, y, w, *, theta, lo, hi, max_iter, tol):
     m, p = theta.shape
     damping = np.full(m, 1e-3)
-    cost = _cost(relation, x, y, w, theta)
+    cost = _cost(relation, x, y, w, theta=theta)
     active = np.ones(m, dtype=bool)
     converged = np.zeros(m, dtype=bool)
     eye = np.eye(p)
     # The normal equations change only when a step is accepted: a rejected step just raises the
     # damping and solves again with the same JᵀWJ and JᵀWr.
-    a, g = _normal_equations(relation, x, y, w, theta)
+    a, g = _normal_equations(relation, x, y, w, theta=theta)
     for _ in range(max_iter):
         idx = np.flatnonzero(active)
         if idx.size == 0:
@@ -118,7 +118,7 @@ def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
         except np.linalg.LinAlgError:
             delta = -np.einsum("kpq,kq->kp", np.linalg.pinv(lhs), gi)
         trial = np.clip(th + delta, lo[idx], hi[idx])
-        trial_cost = _cost(relation, x, y, w[idx], trial)
+        trial_cost = _cost(relation, x, y, w[idx], theta=trial)
         better = trial_cost <= cost[idx]
         stp = trial - th
         # Gauss–Newton's forecast of the decrease (the cost counts Σ w r², hence 2 on g).
@@ -135,11 +135,11 @@ def _lm_block(relation, x, y, w, theta, lo, hi, max_iter, tol):
         active[idx[done]] = False
         refresh = good[active[good]]
         if refresh.size:
-            a[refresh], g[refresh] = _normal_equations(relation, x, y, w[refresh], theta[refresh])
+            a[refresh], g[refresh] = _normal_equations(relation, x, y, w[refresh], theta=theta[refresh])
     return theta, cost, converged
 
 
-def refit_weighted(relation: Relation, energy, barrier, weights, theta0, *, bounds=None, max_iter: int = 200,
+def refit_weighted(relation: Relation, energy, barrier, weights, *, theta0, bounds=None, max_iter: int = 200,
                    tol: float = 1e-10) -> np.ndarray:
     """Least-squares parameters (m, p) for each row of ``weights`` (m, n), warm-started at
     ``theta0`` ((p,) or (m, p)), within ``bounds`` ((lo, hi), each (p,) or (m, p); by default
@@ -149,7 +149,7 @@ def refit_weighted(relation: Relation, energy, barrier, weights, theta0, *, boun
     lo, hi = relation.bounds(x, y) if bounds is None else bounds
     w = np.atleast_2d(np.asarray(weights, dtype=float))
     start = interior(np.broadcast_to(np.asarray(theta0, dtype=float), (w.shape[0], relation.n_params)), lo, hi)
-    theta, _, _ = lm_solve(relation, x, y, w, start, lo, hi, max_iter=max_iter, tol=tol)
+    theta, _, _ = lm_solve(relation, x, y, w, theta0=start, lo=lo, hi=hi, max_iter=max_iter, tol=tol)
     return theta
 
 
@@ -168,8 +168,8 @@ def fit_subsets(relation: Relation, energy, barrier, weights, *, max_iter: int =
     m, s, p = starts.shape
     owner = np.repeat(np.arange(m), s)
     lows, highs = lo[owner], hi[owner]
-    theta, cost, conv = lm_solve(relation, x, y, w[owner], interior(starts.reshape(m * s, p), lows, highs),
-                                 lows, highs, max_iter=max_iter, tol=tol)
+    theta, cost, conv = lm_solve(relation, x, y, w[owner], theta0=interior(starts.reshape(m * s, p), lows, highs),
+                                 lo=lows, hi=highs, max_iter=max_iter, tol=tol)
     pick = np.argmin(cost.reshape(m, s), axis=1) + np.arange(m) * s
     theta_best = theta[pick]
     return SubsetFits(theta=theta_best, cost=cost[pick], converged=conv[pick],

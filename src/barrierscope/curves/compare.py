@@ -61,7 +61,7 @@ def loo_predictions(fit: RelationFit, energy, barrier) -> np.ndarray:
     return out
 
 
-def score_relation(name: str, energy, barrier, loss: str = "linear", with_loo: bool = True) -> RelationScore:
+def score_relation(name: str, energy, barrier, loss: str = "linear", *, with_loo: bool = True) -> RelationScore:
     relation = get_relation(name)
     x = np.asarray(energy, dtype=float)
     y = np.asarray(barrier, dtype=float)
@@ -88,7 +88,7 @@ def score_relation(name: str, energy, barrier, loss: str = "linear", with_loo: b
     return score
 
 
-def compare_relations(energy, barrier, names=None, loss: str = "linear", with_loo: bool = True) -> Comparison:
+def compare_relations(energy, barrier, names=None, loss: str = "linear", *, with_loo: bool = True) -> Comparison:
     """Fit every relation in ``names`` (default: all five) and score them on the same data."""
     x, y = check_pairs(energy, barrier, min_n=2)
     names = list(names) if names is not None else list(RELATIONS)

@@ -109,7 +109,7 @@ def _robust_sigma2(residuals: np.ndarray, dof: int, loss: str) -> float:
     return mad * mad
 
 
-def _least_squares(relation, x, y, start, lo, hi, loss, f_scale, max_nfev):
+def _least_squares(relation, x, y, start, *, lo, hi, loss, f_scale, max_nfev):
     return optimize.least_squares(lambda t: relation.barrier(x, t) - y, interior(start, lo, hi),
                                   jac=lambda t: relation.jacobian(x, t), bounds=(lo, hi), loss=loss,
                                   f_scale=f_scale, method="trf", x_scale="jac", xtol=1e-10, ftol=1e-10,
@@ -139,10 +139,10 @@ def fit_relation(relation: Relation, energy, barrier, *, loss: str = "linear", f
     starts = np.array([interior(s, lo, hi) for s in starts])
     p = relation.n_params
     if loss == "linear":
-        thetas, costs, _ = lm_solve(relation, x, y, np.ones((len(starts), x.size)), starts, lo, hi)
+        thetas, costs, _ = lm_solve(relation, x, y, np.ones((len(starts), x.size)), theta0=starts, lo=lo, hi=hi)
         best = thetas[int(np.argmin(costs))]
         try:
-            res = _least_squares(relation, x, y, best, lo, hi, loss, f_scale, 50 * p)
+            res = _least_squares(relation, x, y, best, lo=lo, hi=hi, loss=loss, f_scale=f_scale, max_nfev=50 * p)
             theta, success = (res.x, bool(res.success)) if res.cost <= 0.5 * np.min(costs) + 1e-12 else (best, True)
         except (ValueError, np.linalg.LinAlgError):
             theta, success = best, True
@@ -150,7 +150,7 @@ def fit_relation(relation: Relation, energy, barrier, *, loss: str = "linear", f
         results = []
         for start in starts:
             try:
-                results.append(_least_squares(relation, x, y, start, lo, hi, loss, f_scale, 200 * p))
+                results.append(_least_squares(relation, x, y, start, lo=lo, hi=hi, loss=loss, f_scale=f_scale, max_nfev=200 * p))
             except (ValueError, np.linalg.LinAlgError):
                 continue
         if not results:

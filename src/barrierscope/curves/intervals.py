@@ -59,7 +59,7 @@ class ProfileInterval:
 class _Profile:
     """S(v): the residual sum of squares minimised over the other parameters at θ_j = v."""
 
-    def __init__(self, fit: RelationFit, x, y, j: int, lo, hi):
+    def __init__(self, fit: RelationFit, x, y, j: int, *, lo, hi):
         self.rel, self.x, self.y, self.j = fit.relation, x, y, j
         self.free = [k for k in range(fit.relation.n_params) if k != j]
         self.lo, self.hi = lo[self.free], hi[self.free]
@@ -80,7 +80,7 @@ class _Profile:
         return float(2.0 * res.cost), self._full(value, res.x)
 
 
-def profile_end(prof, start, g_cut, u_hat: float, edge: float, *, step: float, direction: float, inv):
+def profile_end(prof, start, g_cut, u_hat: float, *, edge: float, step: float, direction: float, inv):
     """One end of the interval in the (possibly log) search coordinate: (value, open?).
     ``prof.rss(value, start)`` gives the minimised RSS at the profiled value and the full
     parameter vector there; ``start`` is the full vector at the optimum; ``inv`` maps the
@@ -139,13 +139,13 @@ def profile_interval(prof, start, g_cut, *, value: float, se: float, lo: float, 
     step = se / (value if use_log else 1.0)
     step = float(np.clip(step if np.isfinite(step) and step > 0 else 0.1, 1e-4 * (1 + abs(u_hat)), None))
     step = min(step, 1.0) if use_log else step
-    low, low_open = profile_end(prof, start, g_cut, u_hat, fwd(lo), step=step, direction=-1.0, inv=inv)
-    high, high_open = profile_end(prof, start, g_cut, u_hat, fwd(hi), step=step, direction=1.0, inv=inv)
+    low, low_open = profile_end(prof, start, g_cut, u_hat, edge=fwd(lo), step=step, direction=-1.0, inv=inv)
+    high, high_open = profile_end(prof, start, g_cut, u_hat, edge=fwd(hi), step=step, direction=1.0, inv=inv)
     return ProfileInterval(low, high, low_open, high_open)
 
 
 def profile_intervals(fit: RelationFit, energy, barrier, level: float = 0.95,
-                      log_scale: tuple[str, ...] = ("width",)) -> dict[str, ProfileInterval]:
+                      *, log_scale: tuple[str, ...] = ("width",)) -> dict[str, ProfileInterval]:
     """Profile-t intervals for every parameter of a least-squares fit.
 
     The interval for θ_j is where τ(v)² = (S(v) − Ŝ)/s² ≤ t²_{n−p}, with S(v) the residual
@@ -159,19 +159,19 @@ def profile_intervals(fit: RelationFit, energy, barrier, level: float = 0.95,
     g_cut = profile_cut(fit.rss, fit.dof, level)
     if g_cut is None:
         return {name: ProfileInterval(float(v), float(v), True, True) for name, v in zip(relation.param_names, fit.params)}
-    return {name: profile_interval(_Profile(fit, x, y, j, lo, hi), fit.params, g_cut, value=fit.params[j],
+    return {name: profile_interval(_Profile(fit, x, y, j, lo=lo, hi=hi), fit.params, g_cut, value=fit.params[j],
                                    se=fit.stderr[j], lo=lo[j], hi=hi[j], log=name in log_scale)
             for j, name in enumerate(relation.param_names)}
 
 
-def bootstrap_intervals(fit: RelationFit, energy, barrier, level: float = 0.95, n_boot: int = 1000,
+def bootstrap_intervals(fit: RelationFit, energy, barrier, level: float = 0.95, *, n_boot: int = 1000,
                         random_state: int | None = 0) -> dict[str, tuple[float, float]]:
     """Case-resampling percentile intervals; each resample is refitted from θ̂."""
     relation = fit.relation
     x, y = check_pairs(energy, barrier, min_n=relation.n_params + 1)
     rng = np.random.default_rng(random_state)
     counts = rng.multinomial(x.size, np.full(x.size, 1.0 / x.size), size=int(n_boot)).astype(float)
-    thetas = refit_weighted(relation, x, y, counts, fit.params)
+    thetas = refit_weighted(relation, x, y, counts, theta0=fit.params)
     q = [(1 - level) / 2 * 100, (1 + level) / 2 * 100]
     return {name: tuple(float(v) for v in np.percentile(thetas[:, k], q))
             for k, name in enumerate(relation.param_names)}

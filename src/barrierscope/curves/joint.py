@@ -83,7 +83,7 @@ def members_by_family(fam, n_families: int):
             yield k, idx
 
 
-def residuals_and_jacobian(rel: Relation, layout: JointLayout, x, y, fam, u):
+def residuals_and_jacobian(rel: Relation, layout: JointLayout, x, y, *, fam, u):
     """(residuals (n,), Jacobian (n, P)) of the joint model at u."""
     theta = layout.unpack(u)
     cols = layout.columns()
@@ -135,7 +135,7 @@ class JointFit:
             th = self.theta[k]
             out[idx] = self.relation.barrier(e[idx], th)
             var[idx] = predictive_variance(self.relation.jacobian(e[idx], th), self.family_cov(k), self.sigma,
-                                           self.relation.slope(e[idx], th), es[idx])
+                                           self.relation.slope(e[idx], th), energy_std=es[idx])
         return (out, np.sqrt(var)) if return_std else out
 
     def slope(self, energy, fam) -> np.ndarray:
@@ -169,7 +169,7 @@ class JointFit:
                    np.asarray(d["n_per_family"], dtype=int), tuple(d.get("at_bound", ())), bounds)
 
 
-def family_bounds(rel: Relation, layout: JointLayout, x, y, fam) -> tuple[np.ndarray, np.ndarray]:
+def family_bounds(rel: Relation, layout: JointLayout, x, y, *, fam) -> tuple[np.ndarray, np.ndarray]:
     """Joint bounds: each family's own from its members; shared ones the widest over families."""
     lows, highs = zip(*[rel.bounds(x[fam == k], y[fam == k]) for k in range(layout.n_families)])
     lows, highs = np.array(lows), np.array(highs)
@@ -182,7 +182,7 @@ def family_bounds(rel: Relation, layout: JointLayout, x, y, fam) -> tuple[np.nda
     return lo, hi
 
 
-def separate_fits(rel: Relation, x, y, fam, n_families: int) -> list:
+def separate_fits(rel: Relation, x, y, fam, *, n_families: int) -> list:
     """Each family fitted alone (None where it has too few members for its own fit)."""
     out = []
     for k in range(n_families):
@@ -194,7 +194,7 @@ def separate_fits(rel: Relation, x, y, fam, n_families: int) -> list:
     return out
 
 
-def _solve(rel, layout, x, y, fam, start, lo, hi, fixed: dict | None = None):
+def _solve(rel, layout, x, y, *, fam, start, lo, hi, fixed: dict | None = None):
     """least_squares on the joint vector, optionally with some coordinates held fixed."""
     fixed = fixed or {}
     free = np.array([i for i in range(layout.size) if i not in fixed])
@@ -208,10 +208,10 @@ def _solve(rel, layout, x, y, fam, start, lo, hi, fixed: dict | None = None):
         return u
 
     def fun(s):
-        return residuals_and_jacobian(rel, layout, x, y, fam, full(s))[0]
+        return residuals_and_jacobian(rel, layout, x, y, fam=fam, u=full(s))[0]
 
     def jac(s):
-        return residuals_and_jacobian(rel, layout, x, y, fam, full(s))[1][:, free]
+        return residuals_and_jacobian(rel, layout, x, y, fam=fam, u=full(s))[1][:, free]
 
     res = optimize.least_squares(fun, interior(base[free], lo[free], hi[free]), jac=jac, bounds=(lo[free], hi[free]),
                                  method="trf", x_scale="jac", xtol=1e-10, ftol=1e-10, gtol=1e-10,
@@ -219,7 +219,7 @@ def _solve(rel, layout, x, y, fam, start, lo, hi, fixed: dict | None = None):
     return full(res.x), float(2.0 * res.cost)
 
 
-def fit_joint(rel: Relation, energy, barrier, fam, n_families: int, shared=("width",), separate=None,
+def fit_joint(rel: Relation, energy, barrier, fam, *, n_families: int, shared=("width",), separate=None,
               start=None) -> JointFit:
     """Fit the families jointly. ``fam``: family code (0..K−1) per member; ``separate``: the
     families' own fits when the caller has them (starting values); ``start``: a joint vector
@@ -238,11 +238,11 @@ def fit_joint(rel: Relation, energy, barrier, fam, n_families: int, shared=("wid
                        f"least {own + 1}")
     if x.size <= layout.size:
         raise FitError(f"{x.size} members for {layout.size} joint parameters")
-    lo, hi = family_bounds(rel, layout, x, y, fam)
-    starts = [np.asarray(start, dtype=float)] if start is not None else _starts(rel, layout, x, y, fam, separate)
-    best = min((_solve(rel, layout, x, y, fam, s, lo, hi) for s in starts), key=lambda t: t[1])
+    lo, hi = family_bounds(rel, layout, x, y, fam=fam)
+    starts = [np.asarray(start, dtype=float)] if start is not None else _starts(rel, layout, x, y, fam=fam, separate=separate)
+    best = min((_solve(rel, layout, x, y, fam=fam, start=s, lo=lo, hi=hi) for s in starts), key=lambda t: t[1])
     u, rss = best
-    r, jac = residuals_and_jacobian(rel, layout, x, y, fam, u)
+    r, jac = residuals_and_jacobian(rel, layout, x, y, fam=fam, u=u)
     dof = x.size - layout.size
     cov = covariance(jac, float(r @ r) / dof)
     near = at_bound(u, lo, hi)
@@ -251,10 +251,10 @@ def fit_joint(rel: Relation, energy, barrier, fam, n_families: int, shared=("wid
     return JointFit(rel, layout, u, cov, float(r @ r), int(x.size), counts, bounded, (lo, hi))
 
 
-def _starts(rel, layout, x, y, fam, separate) -> list[np.ndarray]:
+def _starts(rel, layout, x, y, *, fam, separate) -> list[np.ndarray]:
     """The families' own fits (shared values: their median), and the pooled fit for everyone."""
     pooled = fit_relation(rel, x, y).params
-    separate = separate if separate is not None else separate_fits(rel, x, y, fam, layout.n_families)
+    separate = separate if separate is not None else separate_fits(rel, x, y, fam, n_families=layout.n_families)
     own = np.array([f.params if f is not None else pooled for f in separate])
     return [layout.pack(own), layout.pack(np.tile(pooled, (layout.n_families, 1)))]
 

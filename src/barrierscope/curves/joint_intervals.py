@@ -18,17 +18,17 @@ from .joint import JointFit, _solve
 
 
 class _JointProfile:
-    def __init__(self, fit: JointFit, x, y, fam, i: int):
+    def __init__(self, fit: JointFit, x, y, fam, *, i: int):
         self.fit, self.x, self.y, self.fam, self.i = fit, x, y, fam, i
 
     def rss(self, value: float, start) -> tuple[float, np.ndarray]:
         lo, hi = self.fit.bounds
-        u, rss = _solve(self.fit.relation, self.fit.layout, self.x, self.y, self.fam, start, lo, hi,
+        u, rss = _solve(self.fit.relation, self.fit.layout, self.x, self.y, fam=self.fam, start=start, lo=lo, hi=hi,
                         fixed={self.i: value})
         return rss, u
 
 
-def joint_profile_intervals(fit: JointFit, energy, barrier, fam, level: float = 0.95,
+def joint_profile_intervals(fit: JointFit, energy, barrier, fam, *, level: float = 0.95,
                             log_scale=("width",)) -> dict[int, ProfileInterval]:
     """Joint position → its profile-t interval (open ends marked)."""
     x, y, fam = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float), np.asarray(fam, dtype=int)
@@ -39,7 +39,7 @@ def joint_profile_intervals(fit: JointFit, energy, barrier, fam, level: float = 
     names = fit.relation.param_names
     owner = {fit.layout.index(k, j): names[j] for k in range(fit.layout.n_families) for j in range(len(names))}
     se = np.sqrt(np.clip(np.diag(fit.cov), 0.0, None))
-    return {i: profile_interval(_JointProfile(fit, x, y, fam, i), fit.u, g_cut, value=fit.u[i], se=se[i], lo=lo[i],
+    return {i: profile_interval(_JointProfile(fit, x, y, fam, i=i), fit.u, g_cut, value=fit.u[i], se=se[i], lo=lo[i],
                                 hi=hi[i], log=owner[i] in log_scale)
             for i in range(fit.layout.size)}
 

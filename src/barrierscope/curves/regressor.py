@@ -80,7 +80,7 @@ class CurveRegressor(RegressorProtocol):
     _poor_score = True   # one column of X is used: other columns' signal is not its business
 
     def __init__(self, relation: str = DEFAULT_RELATION, loss: str = "squared", f_scale: float = 1.0,
-                 intervals: str = "profile", n_bootstrap: int = 1000, level: float = 0.95,
+                 intervals: str = "profile", *, n_bootstrap: int = 1000, level: float = 0.95,
                  random_state: int | None = 0, energy_column=None):
         self.relation = relation
         self.loss = loss
@@ -141,7 +141,7 @@ class CurveRegressor(RegressorProtocol):
         elif method == "wald":
             self.ci_ = wald_intervals(fit, self.level)
         elif method == "bootstrap":
-            self.ci_ = bootstrap_intervals(fit, x, yv, self.level, self.n_bootstrap, self.random_state)
+            self.ci_ = bootstrap_intervals(fit, x, yv, self.level, n_boot=self.n_bootstrap, random_state=self.random_state)
         self.identifiability_ = None
         if relation.name == "asymptotic" and self.intervals != "none":
             self.identifiability_ = assess_identifiability(fit, x, yv, profile)
@@ -168,7 +168,7 @@ class CurveRegressor(RegressorProtocol):
         x = energy_column(energy)
         s = None if energy_std is None else np.broadcast_to(np.asarray(energy_std, dtype=float), x.shape)
         return predictive_variance(self.relation_.jacobian(x, self.params_), self.cov_, self.sigma_,
-                                   self.relation_.slope(x, self.params_), s)
+                                   self.relation_.slope(x, self.params_), energy_std=s)
 
     def interval_quantile(self, level: float) -> float:
         """Two-sided t quantile (dof of the curve fit) for a predictive interval."""

@@ -12,7 +12,7 @@ import numpy as np
 BOUND_TOLERANCE = 1e-6
 
 
-def predictive_variance(jac, cov, sigma, slope=None, energy_std=None) -> np.ndarray:
+def predictive_variance(jac, cov, sigma, slope=None, *, energy_std=None) -> np.ndarray:
     """Predictive variance of barriers from a fitted curve (METHOD §4):
     J·Cov·Jᵀ (the parameters) + σ² (the curve's residual scatter) + (α·σ_E)² (the reaction
     energy's uncertainty carried through the local slope α).

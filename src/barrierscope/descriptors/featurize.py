@@ -72,7 +72,7 @@ def _reaction_energies(reactions, engine: DescriptorEngine, errors, kinds) -> np
 
 
 def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
-              max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS, resolution: Resolution | None = None) -> FeatureBlock:
+              max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS, *, resolution: Resolution | None = None) -> FeatureBlock:
     """Descriptors for every row of ``df``; see the module docstring."""
     res = resolution if resolution is not None else resolve_structures(df, spec, max_atoms)
     n = len(df)

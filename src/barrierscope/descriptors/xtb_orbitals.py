@@ -31,7 +31,7 @@ def xtb_molecule_descriptors(key: str) -> dict[str, float]:
     uhf = Descriptors.NumRadicalElectrons(ens.mol)
     best = None
     for conf in ens.conformers:
-        energy, res = singlepoint(ens.numbers, conf.coordinates, ens.charge, uhf, SOLVENT)
+        energy, res = singlepoint(ens.numbers, conf.coordinates, ens.charge, uhf, solvent=SOLVENT)
         if best is None or energy < best[0]:
             best = (energy, res)
     res = best[1]

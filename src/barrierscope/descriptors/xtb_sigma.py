@@ -58,11 +58,11 @@ def deprotonation_energy(key: str, position: str) -> float:
     ens = build_ensemble(probe_acid(key, position))
     oxygen = next(a.GetIdx() for a in ens.mol.GetAtoms() if a.GetAtomMapNum() == 2)
     proton = next(n.GetIdx() for n in ens.mol.GetAtomWithIdx(oxygen).GetNeighbors() if n.GetAtomicNum() == 1)
-    energies = [singlepoint(ens.numbers, c.coordinates, ens.charge, 0, SOLVENT)[0] for c in ens.conformers]
+    energies = [singlepoint(ens.numbers, c.coordinates, ens.charge, 0, solvent=SOLVENT)[0] for c in ens.conformers]
     best = ens.conformers[int(np.argmin(energies))].coordinates
     e_acid = float(min(energies))
     if ens.force_field == "none":
-        e_acid, best = optimize_geometry(ens.numbers, best, ens.charge, 0, SOLVENT)
+        e_acid, best = optimize_geometry(ens.numbers, best, ens.charge, 0, solvent=SOLVENT)
 
     anion = Chem.RWMol(ens.mol)
     anion.RemoveAtom(proton)
@@ -72,9 +72,9 @@ def deprotonation_energy(key: str, position: str) -> float:
     xyz, ff = force_field_relax(anion, np.delete(best, proton, axis=0))
     numbers = np.array([a.GetAtomicNum() for a in anion.GetAtoms()], dtype=int)
     if ff == "none":
-        e_anion, _ = optimize_geometry(numbers, xyz, ens.charge - 1, 0, SOLVENT)
+        e_anion, _ = optimize_geometry(numbers, xyz, ens.charge - 1, 0, solvent=SOLVENT)
     else:
-        e_anion, _ = singlepoint(numbers, xyz, ens.charge - 1, 0, SOLVENT)
+        e_anion, _ = singlepoint(numbers, xyz, ens.charge - 1, 0, solvent=SOLVENT)
     return (e_anion - e_acid) * factor_to_kcal("hartree")
 
 

@@ -67,7 +67,7 @@ class DescriptorRegressor(RegressorProtocol):
         self.preprocessor_ = Preprocessor.fit(A, cols)
         Z = self.preprocessor_.transform(A)
         warm = getattr(warm_start, "state_", None)
-        self.state_ = fit_state(learner, Z, y, self.random_state, warm, self.effort)
+        self.state_ = fit_state(learner, Z, y, self.random_state, warm=warm, effort=self.effort)
         self.n_train_ = int(y.size)
         return self
 

@@ -43,7 +43,7 @@ class Candidates:
     given: np.ndarray
 
 
-def _expected_information(relation, theta, mu: float, sd: float, s2: float) -> np.ndarray:
+def _expected_information(relation, theta, mu: float, sd: float, *, s2: float) -> np.ndarray:
     es = mu + sd * _GH_X if sd > 0 else np.array([mu])
     ws = _GH_W if sd > 0 else np.array([1.0])
     J = relation.jacobian(es, theta)
@@ -65,7 +65,7 @@ def _energy_part(cands: Candidates, state: dict, alpha_pool: np.ndarray, A_inv: 
     return np.where(cands.given, 0.0, gain)
 
 
-def pick(curve, cands: Candidates, k: int, goal: str = "parameters", energy_state: dict | None = None,
+def pick(curve, cands: Candidates, k: int, goal: str = "parameters", *, energy_state: dict | None = None,
          min_gap: float = 0.5, near: float = 0.0) -> list[dict]:
     """Greedy batch of up to ``k`` candidates: [{"index", "score"}] in pick order.
 
@@ -79,7 +79,7 @@ def pick(curve, cands: Candidates, k: int, goal: str = "parameters", energy_stat
     rel, theta = curve.relation_, np.asarray(curve.params_, dtype=float)
     s2 = float(curve.sigma_) ** 2 if np.isfinite(curve.sigma_) and curve.sigma_ > 0 else 1.0
     info = _regularised(np.linalg.pinv(np.asarray(curve.cov_, dtype=float), hermitian=True))
-    M = np.stack([_expected_information(rel, theta, e, sd, s2) for e, sd in zip(cands.energy, cands.energy_sd)])
+    M = np.stack([_expected_information(rel, theta, e, sd, s2=s2) for e, sd in zip(cands.energy, cands.energy_sd)])
     Jpool = rel.jacobian(cands.energy, theta)
     G = Jpool.T @ Jpool
     use_energy = goal == "predictions" and cands.Z is not None and energy_state is not None

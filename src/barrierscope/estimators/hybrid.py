@@ -17,7 +17,7 @@ from .descriptor_regressor import DescriptorRegressor
 from .two_stage import EnergyRouteMixin, TwoStageRegressor, rows
 
 
-def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, fitted: DescriptorRegressor | None = None):
+def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, *, fitted: DescriptorRegressor | None = None):
     """Energy-stage predictions for training members from fits that did not see them:
     exact leave-one-out for ridge (closed form), 5-fold cross-validation otherwise.
     ``fitted`` is the energy stage already fitted on (X, energy), when there is one."""
@@ -39,7 +39,7 @@ def out_of_fold_barrier(curve, energy, barrier, energy_oof) -> np.ndarray:
     """Each member's barrier from the curve refitted without it (warm-started at the full
     fit, which never saw the member a caller holds out), fed its out-of-fold energy."""
     energy = np.asarray(energy, dtype=float)
-    thetas = refit_weighted(curve.relation_, energy, barrier, loo_weights(energy.size), curve.params_,
+    thetas = refit_weighted(curve.relation_, energy, barrier, loo_weights(energy.size), theta0=curve.params_,
                             bounds=curve.relation_.bounds(energy, barrier))
     return curve.relation_.barrier(np.asarray(energy_oof, dtype=float)[:, None], thetas)[:, 0]
 

@@ -7,7 +7,7 @@ import numpy as np
 import pandas as pd
 
 
-def permutation_importance(regressor, X, y, n_repeats: int = 5, random_state: int = 0) -> np.ndarray:
+def permutation_importance(regressor, X, y, n_repeats: int = 5, *, random_state: int = 0) -> np.ndarray:
     """Mean increase in RMSE (y's unit) per column of X (DataFrame), in column order. Every
     shuffled copy is predicted in one call (same numbers as one call per copy)."""
     rng = np.random.default_rng(random_state)

@@ -94,7 +94,7 @@ class JackknifePlus:
     """
 
     def __init__(self, route: str = "two_stage", learner: str = "ridge", relation: str = "asymptotic",
-                 level: float = 0.90, random_state: int = 0):
+                 level: float = 0.90, *, random_state: int = 0):
         self.route = route
         self.learner = learner
         self.relation = relation
@@ -161,7 +161,7 @@ class JackknifePlus:
 
     @classmethod
     def from_dict(cls, d: dict) -> "JackknifePlus":
-        self = cls(d["route"], d["learner"], d["relation"], float(d["level"]), int(d["random_state"]))
+        self = cls(d["route"], d["learner"], d["relation"], float(d["level"]), random_state=int(d["random_state"]))
         self.folds_ = [np.asarray(f, dtype=int) for f in d["folds"]]
         self.models_ = [_load(self.route, m) for m in d["models"]]
         self.resid_ = np.asarray(d["resid"], dtype=float)

@@ -213,7 +213,7 @@ def _forest_predict(state: dict, X: np.ndarray):
     return total / len(state["trees"]), np.full(X.shape[0], state["oob_rmse"])
 
 
-def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, warm: dict | None = None,
+def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, *, warm: dict | None = None,
               effort: str = "full") -> dict:
     """Fit learner ``name`` on (X, y) and return its state (plain data); ``warm`` a state of the
     same learner to start a Gaussian process's hyper-parameter search from; ``effort="refit"``

@@ -120,7 +120,7 @@ class TwoStageRegressor(EnergyRouteMixin, RegressorProtocol):
     _poor_score = True   # the barrier follows one column of X through the curve
 
     def __init__(self, learner: str = "ridge", relation: str = "asymptotic", curve_intervals: str = "none",
-                 random_state: int = 0, energy_column=None):
+                 random_state: int = 0, *, energy_column=None):
         self.learner = learner
         self.relation = relation
         self.curve_intervals = curve_intervals

@@ -76,7 +76,7 @@ def numeric_columns(df: pd.DataFrame, columns: dict[str, str], ids: pd.Series, u
 
 
 def resolve_duplicates(keys: pd.Series, values: np.ndarray, ids: pd.Series, rows: np.ndarray,
-                       by_structure: bool) -> tuple[np.ndarray, list[str], list[RowProblem]]:
+                       *, by_structure: bool) -> tuple[np.ndarray, list[str], list[RowProblem]]:
     """(mask keeping the first of each group of equal ``keys``, warnings, conflicts).
 
     ``values`` is (n, k). Duplicates with equal values are merged with a warning. A group whose
@@ -127,7 +127,7 @@ def collision_advice(by_structure: bool, conflicts: list[RowProblem]) -> str:
     return "keep the right values once, or leave these rows out with --skip-bad-rows (each will be listed)"
 
 
-def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str, unit: str = "kcal/mol",
+def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str, *, unit: str = "kcal/mol",
                id_col: str | None = None, skip_bad_rows: bool = False, keys: pd.Series | None = None,
                extra_bad: list[RowProblem] | None = None) -> Pairs:
     """Validated pairs from ``df``.
@@ -163,7 +163,7 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
         both = np.column_stack([values["energy"], values["barrier"]])
         keep_sub, dup_warn, conflicts = resolve_duplicates(keys.iloc[sub].reset_index(drop=True), both[sub],
                                                            ids.iloc[sub].reset_index(drop=True), rows[sub],
-                                                           by_structure)
+                                                           by_structure=by_structure)
         warnings += dup_warn
         ok[sub[~keep_sub]] = False
         if conflicts and not skip_bad_rows:

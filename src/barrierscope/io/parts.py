@@ -79,7 +79,7 @@ def remove_stale_parts(output: Path) -> None:
             pass
 
 
-def assemble(parts: list[Path], rank: np.ndarray, output: Path, fmt: str, header_frame) -> None:
+def assemble(parts: list[Path], rank: np.ndarray, output: Path, fmt: str, *, header_frame) -> None:
     with atomic_path(output) as tmp:
         if fmt == "parquet":
             import pyarrow as pa

@@ -83,7 +83,7 @@ def refused():
         raise FitRefused(str(exc)) from None
 
 
-def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: str = "free-energy",
+def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", *, kind: str = "free-energy",
                id_column: str | None = None, loss: str = "squared", intervals: str = "profile",
                n_bootstrap: int = 1000, skip_bad_rows: bool = False) -> CurveComparison:
     """The comparison record of a table's pairs, with the warnings and skipped rows (kcal/mol)."""
@@ -95,7 +95,7 @@ def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: s
     with option("--loss"):
         loss_name(loss)
     at_least("--n-bootstrap", n_bootstrap, 20)
-    pairs = load_pairs(read_table(data), str(data), energy, barrier, unit, id_col=id_column, skip_bad_rows=skip_bad_rows)
+    pairs = load_pairs(read_table(data), str(data), energy, barrier, unit=unit, id_col=id_column, skip_bad_rows=skip_bad_rows)
     require_members(pairs.n, 4, "comparing the relations with leave-one-out")
     with refused():
         return compare_curves(pairs.energy, pairs.barrier, energy_kind=energy_kind, loss=loss, intervals=intervals,
@@ -104,7 +104,7 @@ def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", kind: s
                               skipped=[SkippedRow(row=p.row, id=p.ident, problem=p.message) for p in pairs.skipped])
 
 
-def families_file(data, energy: str, barrier: str, family: str, share: str | None = None, units: str = "kcal/mol",
+def families_file(data, energy: str, barrier: str, family: str, *, share: str | None = None, units: str = "kcal/mol",
                   kind: str = "free-energy", id_column: str | None = None, skip_bad_rows: bool = False,
                   figure=None) -> JointRecord:
     """The joint record of every family in a table (kcal/mol); each family's rows are checked
@@ -123,7 +123,7 @@ def families_file(data, energy: str, barrier: str, family: str, share: str | Non
     x, y, fam_labels, warnings, skipped = [], [], [], [], [str(p) for p in problems]
     for name in sorted(set(labels) - {""}):
         sub = df[(labels == name).to_numpy()]
-        pairs = load_pairs(sub, f"{data} (family {name})", energy, barrier, unit, id_col=id_column,
+        pairs = load_pairs(sub, f"{data} (family {name})", energy, barrier, unit=unit, id_col=id_column,
                            skip_bad_rows=skip_bad_rows)
         x += pairs.energy.tolist()
         y += pairs.barrier.tolist()
@@ -139,5 +139,5 @@ def families_file(data, energy: str, barrier: str, family: str, share: str | Non
         from ..views.figures import families_png
 
         write_bytes_atomic(figure, families_png(record.families, record.relation, record.shared, np.array(x),
-                                                np.array(y), fam, names, unit))
+                                                barrier=np.array(y), fam=fam, names=names, unit=unit))
     return record

@@ -44,7 +44,7 @@ def run_demo(out: str | Path = "barrierscope-demo", cache_dir="default", k: int 
 
     engine = DescriptorEngine(("2d", "table"), DescriptorCache(cache_dir))
     model, record = fit_family(read_table(family_path), str(family_path), make_spec(molecule="smiles", core=CORE),
-                               engine, FitOptions("dG_r", "dG_act", n_shuffles=shuffles))
+                               engine, opts=FitOptions("dG_r", "dG_act", n_shuffles=shuffles))
     model_path = out / "model.json"
     modelfile.save(model.as_dict(), model_path)
     write_text_atomic(out / "validation.json", _json(fit_json(record, model.tiers)))

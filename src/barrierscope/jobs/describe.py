@@ -18,7 +18,7 @@ def structure_columns(spec: InputSpec) -> list[str]:
 
 
 def describe_chunk(chunk: pd.DataFrame, source: str, spec: InputSpec, engine: DescriptorEngine,
-                   id_column: str | None = None, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> pd.DataFrame:
+                   *, id_column: str | None = None, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> pd.DataFrame:
     require_columns(chunk, structure_columns(spec), source)
     chunk = chunk.reset_index(drop=True)
     block = featurize(chunk, spec, engine, max_atoms=max_atoms)
@@ -33,23 +33,23 @@ def describe_chunk(chunk: pd.DataFrame, source: str, spec: InputSpec, engine: De
 
 
 def describe_file(path, spec: InputSpec, engine: DescriptorEngine, id_column: str | None = None,
-                  chunk_size: int | None = None, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> pd.DataFrame:
-    parts = [describe_chunk(c, str(path), spec, engine, id_column, max_atoms)
+                  *, chunk_size: int | None = None, max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> pd.DataFrame:
+    parts = [describe_chunk(c, str(path), spec, engine, id_column=id_column, max_atoms=max_atoms)
              for c in iter_table(path, chunk_size=chunk_size)]
     return pd.concat(parts, ignore_index=True)
 
 
-def run_describe(data, output, structure, tiers: str, id_column=None, cache_dir=None, max_atoms: int = 200,
+def run_describe(data, output, structure, tiers: str, *, id_column=None, cache_dir=None, max_atoms: int = 200,
                  workers: int = 1, scheduler=None, xtb_level: str = "sp", solvent=None) -> pd.DataFrame:
     """Describe ``data`` into ``output`` (atomically); returns the table written."""
     from ..io.tables import write_table
     from .setup import descriptor_engine, structure_spec
 
-    spec = structure_spec(*structure)
+    spec = structure_spec(**structure)
     if spec.mode == "none":
         raise InputError("say where the structures are: --substituents, --molecule (with or without --core), "
                          "--reaction, or --template with --substituents")
-    with descriptor_engine(tiers, cache_dir, workers, scheduler, xtb_level, solvent) as engine:
+    with descriptor_engine(tiers, cache_dir, workers, scheduler, xtb_level=xtb_level, solvent=solvent) as engine:
         table = describe_file(data, spec, engine, id_column=id_column, max_atoms=max_atoms)
     write_table(table, output)
     return table

@@ -78,7 +78,7 @@ def family_codes(labels) -> tuple[np.ndarray, list[str]]:
     return np.array([index[v] for v in labels], dtype=int), names
 
 
-def _family_entry(fit, k, prof, sep, x, y, fam, level) -> FamilyEntry:
+def _family_entry(fit, k, prof, sep, *, x, y, fam, level) -> FamilyEntry:
     rel, layout = fit.relation, fit.layout
     sel = fam == k
     centre = float(0.5 * (x[sel].min() + x[sel].max()))
@@ -99,7 +99,7 @@ def _family_entry(fit, k, prof, sep, x, y, fam, level) -> FamilyEntry:
         energy_range=[float(x[sel].min()), float(x[sel].max())], separate=separate)
 
 
-def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("width",), *, level: float = 0.95,
+def joint_record(energy, barrier, labels, relation: str = "asymptotic", *, share=("width",), level: float = 0.95,
                  validate: bool = True, energy_pred=None, **context):
     """(JointRecord, JointFit, family codes, family names). The record: ``families`` {name:
     FamilyEntry}, ``shared``, ``sharing_test`` and ``validation``; with ``energy_pred`` (each
@@ -111,15 +111,15 @@ def joint_record(energy, barrier, labels, relation: str = "asymptotic", share=("
     if len(names) < 2:
         raise FitRefused(f"--family: one family only ({names[0] if names else 'none'}); a joint fit needs two or more")
     rel = get_relation(relation)
-    separate = separate_fits(rel, x, y, fam, len(names))
-    fit = fit_joint(rel, x, y, fam, len(names), share, separate)
-    prof = joint_profile_intervals(fit, x, y, fam, level)
-    validation = ({"loo": member_loo(fit, x, y, fam, separate, energy_pred),
-                   "leave_family_out": leave_family_out(fit, x, y, fam, names)} if validate else {})
+    separate = separate_fits(rel, x, y, fam, n_families=len(names))
+    fit = fit_joint(rel, x, y, fam, n_families=len(names), shared=share, separate=separate)
+    prof = joint_profile_intervals(fit, x, y, fam, level=level)
+    validation = ({"loo": member_loo(fit, x, y, fam, separate=separate, energy_pred=energy_pred),
+                   "leave_family_out": leave_family_out(fit, x, y, fam, names=names)} if validate else {})
     record = JointRecord(
         relation=rel.name, n=int(x.size), shared=list(fit.layout.shared), sharing_test=sharing_test(fit, separate),
         sigma=fit.sigma, at_bound=list(fit.at_bound),
-        families={n: _family_entry(fit, k, prof, separate[k], x, y, fam, level) for k, n in enumerate(names)},
+        families={n: _family_entry(fit, k, prof, separate[k], x=x, y=y, fam=fam, level=level) for k, n in enumerate(names)},
         too_small_alone=[names[k] for k, s in enumerate(separate) if s is None], validation=validation, **context)
     return record, fit, fam, names
 
@@ -133,7 +133,7 @@ def _scores(y, preds: dict, base: str = "joint", note: str = "") -> FamilyRegime
                         joint_beats=[k.split("_vs_")[1] for k, c in pairs.items() if beats(c)])
 
 
-def member_loo(fit, x, y, fam, separate, energy_pred=None) -> FamilyRegime:
+def member_loo(fit, x, y, fam, *, separate, energy_pred=None) -> FamilyRegime:
     """Leave-one-out by member: joint, separate, pooled and family-mean predictions (and the
     two-stage route through the joint curves, from ``energy_pred``)."""
     n, own = x.size, len(fit.layout.own_idx)
@@ -149,7 +149,7 @@ def member_loo(fit, x, y, fam, separate, energy_pred=None) -> FamilyRegime:
         preds["family_mean"][i] = y[same].mean() if same.any() else np.nan
         preds["pooled"][i] = rel.barrier(x[i:i + 1], fit_relation(rel, x[keep], y[keep], x0=pooled.params).params)[0]
         if counts[k] - 1 >= own + 1:
-            refit = fit_joint(rel, x[keep], y[keep], fam[keep], fit.layout.n_families, fit.layout.shared, start=fit.u)
+            refit = fit_joint(rel, x[keep], y[keep], fam[keep], n_families=fit.layout.n_families, shared=fit.layout.shared, start=fit.u)
             preds["joint"][i] = refit.predict(x[i:i + 1], [k])[0]
             if energy_pred is not None:
                 preds["two_stage"][i] = refit.predict(np.asarray(energy_pred, dtype=float)[i:i + 1], [k])[0]
@@ -162,7 +162,7 @@ def member_loo(fit, x, y, fam, separate, energy_pred=None) -> FamilyRegime:
     return _scores(y, preds)
 
 
-def leave_family_out(fit, x, y, fam, names) -> FamilyRegime:
+def leave_family_out(fit, x, y, fam, *, names) -> FamilyRegime:
     """Each family predicted from the others (see the module docstring)."""
     K = fit.layout.n_families
     if K < 3:
@@ -174,7 +174,7 @@ def leave_family_out(fit, x, y, fam, names) -> FamilyRegime:
         codes = np.searchsorted(np.delete(np.arange(K), k), fam[train])
         start = replace(fit.layout, n_families=K - 1).pack(np.delete(fit.theta, k, axis=0))
         try:
-            refit = fit_joint(rel, x[train], y[train], codes, K - 1, fit.layout.shared, start=start)
+            refit = fit_joint(rel, x[train], y[train], codes, n_families=K - 1, shared=fit.layout.shared, start=start)
         except FitError:
             continue
         typical = refit.theta.mean(axis=0)      # shared parameters are the same in every row

@@ -67,7 +67,7 @@ def _check_sizes(n: int, has_x: bool, opts: FitOptions) -> None:
                          f"{minimum_members(opts.learner) + 1} for a leave-one-out validation")
 
 
-def descriptor_notes(two_stage: TwoStageRegressor, X, energy, learner: str, random_state: int):
+def descriptor_notes(two_stage: TwoStageRegressor, X, energy, learner: str, *, random_state: int):
     """(notes, warnings, permutation importance) about the energy stage's descriptors."""
     from ..estimators.importance import permutation_importance
 
@@ -122,10 +122,10 @@ def check_options(opts: FitOptions) -> tuple[str, str]:
     return kind, unit
 
 
-def fit_family(df, source: str, spec, engine, opts: FitOptions):
+def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
     """(FamilyModel, FitRecord) for one family's table; the record is in kcal/mol, built once."""
     kind, unit = check_options(opts)
-    X, pairs, spec = prepare_members(df, source, spec, engine, opts)
+    X, pairs, spec = prepare_members(df, source, spec, engine, opts=opts)
     has_x = X is not None and X.shape[1] > 0
     _check_sizes(pairs.n, has_x, opts)
     energy, barrier = pairs.energy, pairs.barrier
@@ -140,11 +140,11 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
                         f"see the identifiability verdict")
     if has_x:
         more_notes, more_warnings, importance = descriptor_notes(two_stage, X, energy, opts.learner,
-                                                                 opts.random_state)
+                                                                 random_state=opts.random_state)
         notes += more_notes
         warnings += more_warnings
     checked = validate(X if has_x else None, energy, barrier, pairs.ids,
-                       ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
+                       opts=ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
                                          opts.regimes))
     primary = primary_route(checked.validation["loo"], checked.routes) if has_x else "two_stage"
     notes += checked.notes
@@ -155,9 +155,9 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
         hammett = hammett_record(X, spec, barrier)
     joint, family_fields = None, {}
     if opts.family_column:
-        joint, primary, family_fields = _families(energy, barrier, pairs.families, checked, primary, opts, notes)
+        joint, primary, family_fields = _families(energy, barrier, pairs.families, checked, primary=primary, opts=opts, notes=notes)
     jackknife, intervals, regimes, more = prediction_intervals(X if has_x else None, energy, barrier, primary,
-                                                               checked, opts)
+                                                               checked=checked, opts=opts)
     notes += more
     tiers = list(getattr(engine, "tiers", ())) if has_x else []
     fields = {f: getattr(checked, f) for f in ("routes", "energy_stage", "comparison", "winner", "members",
@@ -187,7 +187,7 @@ def fit_family(df, source: str, spec, engine, opts: FitOptions):
     return model, record
 
 
-def _families(energy, barrier, labels, checked, primary: str, opts: FitOptions, notes: list):
+def _families(energy, barrier, labels, checked, *, primary: str, opts: FitOptions, notes: list):
     """The families' joint curves, the model's route, and the record's family fields
     (``families``, ``shared``, ``sharing_test``, ``family_validation``, ``family_names``,
     ``family_column``): the model predicts through the joint curves unless the black box won
@@ -196,7 +196,7 @@ def _families(energy, barrier, labels, checked, primary: str, opts: FitOptions, 
 
     e_loo = checked.members.energy_pred if checked.members is not None else None
     rec, fit, _, names = joint_record(energy, barrier, labels, opts.relation if opts.relation != "auto" else
-                                      "asymptotic", opts.share, energy_pred=e_loo)
+                                      "asymptotic", share=opts.share, energy_pred=e_loo)
     fields = {"families": rec.families, "shared": rec.shared, "sharing_test": rec.sharing_test,
               "family_validation": rec.validation, "family_names": names, "family_column": opts.family_column}
     if primary == "hybrid":
@@ -205,7 +205,7 @@ def _families(energy, barrier, labels, checked, primary: str, opts: FitOptions, 
     return {"fit": fit, "names": names}, ("direct" if primary == "direct" else "two_stage"), fields
 
 
-def prediction_intervals(X, energy, barrier, primary: str, checked, opts: FitOptions):
+def prediction_intervals(X, energy, barrier, primary: str, *, checked, opts: FitOptions):
     """(JackknifePlus or None, the record's ``intervals``, the regimes with jackknife+ coverage
     added, notes): which intervals the model uses, their measured coverage per regime, and a
     note when the model's own intervals miss their nominal level in leave-one-out."""
@@ -224,10 +224,10 @@ def prediction_intervals(X, energy, barrier, primary: str, checked, opts: FitOpt
         return None, IntervalsRecord(method="model", route=route, level=opts.level), checked.validation, notes
     vopts = ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, 0, opts.regimes)
     routes = (route, "curve_on_true_energy") if X is not None else (route,)
-    coverage = coverage_by_regime(X, energy, barrier, routes, vopts)
+    coverage = coverage_by_regime(X, energy, barrier, routes, opts=vopts)
     regimes = {name: (replace(r, jackknife_plus=coverage[name]) if name in coverage else r)
                for name, r in checked.validation.items()}
-    fitted = JackknifePlus(primary, opts.learner, opts.relation, opts.level, opts.random_state).fit(X, barrier, energy)
+    fitted = JackknifePlus(primary, opts.learner, opts.relation, opts.level, random_state=opts.random_state).fit(X, barrier, energy)
     return fitted, IntervalsRecord(method=fitted.method, route=route, level=opts.level,
                                    folds=len(fitted.folds_)), regimes, notes
 
@@ -267,7 +267,7 @@ class EngineOptions:
     solvent: str | None = None
 
 
-def fit_table(df, source: str, structure: dict, opts: FitOptions, engine_opts: EngineOptions = EngineOptions()):
+def fit_table(df, source: str, structure: dict, opts: FitOptions, *, engine_opts: EngineOptions = EngineOptions()):
     """The one path from a table to a fitted family, for the command line and the Python API:
     the structure options (``structure``: substituents, molecule, core, reaction, template,
     multiplicity) checked together with the tiers, the descriptor engine set up and closed,
@@ -280,16 +280,16 @@ def fit_table(df, source: str, structure: dict, opts: FitOptions, engine_opts: E
     e = engine_opts
     if spec.mode == "none" and e.tiers != "2d,table":
         raise InputError("--tiers needs a structure input (--substituents, --molecule, --reaction or --template)")
-    engine_cm = (descriptor_engine(e.tiers, e.cache_dir, e.workers, e.scheduler, e.xtb_level, e.solvent)
+    engine_cm = (descriptor_engine(e.tiers, e.cache_dir, e.workers, e.scheduler, xtb_level=e.xtb_level, solvent=e.solvent)
                  if spec.mode != "none" else contextlib.nullcontext(None))
     with engine_cm as engine:
         if engine is not None and not engine.tiers and not opts.extra_descriptors:
             raise InputError("--tiers none leaves no descriptors: add --extra-descriptors, or drop the structure "
                              "options for a curve-only model")
-        return fit_family(df, source, spec, engine, opts)
+        return fit_family(df, source, spec, engine, opts=opts)
 
 
-def fit_file(data, output, structure: dict, opts: FitOptions, engine_opts: EngineOptions = EngineOptions(), *,
+def fit_file(data, output, structure: dict, opts: FitOptions, *, engine_opts: EngineOptions = EngineOptions(),
              members=None, report=None, figures=None):
     """The `fit` command: read, fit, validate, write the model (and the member table and the
     report when asked). Returns (model, record)."""
@@ -298,7 +298,7 @@ def fit_file(data, output, structure: dict, opts: FitOptions, engine_opts: Engin
     from ..views.members import members_frame
     from .report import write_report
 
-    model, record = fit_table(read_table(data), str(data), structure, opts, engine_opts)
+    model, record = fit_table(read_table(data), str(data), structure, opts, engine_opts=engine_opts)
     modelfile.save(model.as_dict(), output)
     if members is not None:
         # Rounded for reading (CSV/TSV); full precision in Parquet, as for screens.

@@ -30,7 +30,7 @@ def _extra_matrix(df: pd.DataFrame, columns: list[str], ids: pd.Series, source: 
     return pd.DataFrame(data, index=df.index), problems
 
 
-def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts):
+def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, *, opts):
     """Descriptors, energies and barriers of the usable members; problems name their rows."""
     unit = normalize_unit(opts.units)
     ids = row_ids(df, opts.id_column, source)
@@ -67,7 +67,7 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, opts
         if X is not None:
             X = pd.concat([X.reset_index(drop=True), one_hot(labels, sorted(set(labels) - {""}))], axis=1)
             X.index = df.index
-    pairs = load_pairs(df, source, opts.energy_column, opts.barrier_column, unit, id_col=opts.id_column,
+    pairs = load_pairs(df, source, opts.energy_column, opts.barrier_column, unit=unit, id_col=opts.id_column,
                        skip_bad_rows=opts.skip_bad_rows, keys=keys, extra_bad=problems)
     if labels is not None:
         pairs.families = [str(v) for v in np.asarray(labels)[pairs.keep]]

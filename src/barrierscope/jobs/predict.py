@@ -44,7 +44,7 @@ class ChunkPrediction:
     block: object = None            # the FeatureBlock (its ``keys``: each row's structure key)
 
 
-def _given_energies(chunk, model, opts, status, kind) -> np.ndarray:
+def _given_energies(chunk, model, opts, status, *, kind) -> np.ndarray:
     if opts.energy_column is None:
         return np.full(len(chunk), np.nan)
     values, problems = parse_numeric(chunk[opts.energy_column], opts.energy_column)
@@ -56,7 +56,7 @@ def _given_energies(chunk, model, opts, status, kind) -> np.ndarray:
     return values * factor_to_kcal(opts.energy_units or model.units)
 
 
-def _descriptors(chunk, model, opts, engine, status, kind, labels=None):
+def _descriptors(chunk, model, opts, engine, *, status, kind, labels=None):
     from ..descriptors.featurize import featurize
 
     block = featurize(chunk, model.spec, engine, max_atoms=opts.max_atoms)
@@ -106,7 +106,7 @@ NUMERIC = ("energy", "energy_sd", "barrier", "low", "high", "barrier_sd", "alpha
            "ad_distance")
 
 
-def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, engine) -> ChunkPrediction:
+def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, *, engine) -> ChunkPrediction:
     """One output row per input row of ``chunk``; see the module docstring."""
     chunk = chunk.reset_index(drop=True)
     n = len(chunk)
@@ -116,11 +116,11 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
     if READ_ERROR in chunk.columns:
         bad = (chunk[READ_ERROR].astype(str) != "").to_numpy()
         status[bad], kind[bad] = chunk.loc[bad, READ_ERROR].to_numpy(), "unreadable"
-    given = _given_energies(chunk, model, opts, status, kind)
+    given = _given_energies(chunk, model, opts, status, kind=kind)
     labels, codes = _families(chunk, model, status, kind)
     X = block = None
     if model.has_structures:
-        X, notes, block = _descriptors(chunk, model, opts, engine, status, kind, labels)
+        X, notes, block = _descriptors(chunk, model, opts, engine, status=status, kind=kind, labels=labels)
     # Columns are filled as arrays and framed once (row-wise .loc writes cost more than the model).
     cols: dict = {"row": chunk[ROW].to_numpy(), "id": row_ids(chunk, opts.id_column, source).to_numpy()}
     for c in [*model.spec.columns, *([opts.energy_column] if opts.energy_column else []),

@@ -17,7 +17,7 @@ def model_record(model) -> FitRecord:
     return FitRecord.from_dict({**model.validation, "curve": model.curve.as_dict()})
 
 
-def write_report(model, record: FitRecord | None = None, path=None, figures_dir=None, source: str = "",
+def write_report(model, record: FitRecord | None = None, path=None, figures_dir=None, *, source: str = "",
                  screen=None, picks=None) -> str:
     """Build the report (``record`` defaults to the model's own) and write it to ``path``."""
     record = model_record(model) if record is None else record
@@ -27,8 +27,8 @@ def write_report(model, record: FitRecord | None = None, path=None, figures_dir=
         extra.append(screen_section(screen, model.units, model.spec.mode, model.spec.columns))
     if picks is not None:
         extra.append(picks_section(picks, model.spec.mode))
-    text = build_report(model, record, comparison, source, screen, picks, Path(figures_dir) if figures_dir else None,
-                        extra)
+    text = build_report(model, record, comparison, source, screen=screen, picks=picks, figures_dir=Path(figures_dir) if figures_dir else None,
+                        extra_sections=extra)
     if path is not None:
         write_text_atomic(path, text)
     return text

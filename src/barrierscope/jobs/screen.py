@@ -61,7 +61,7 @@ def screen_chunk(args):
     content, key, chunk, source, opts, fmt, top, part = args
     model = cached_model(content, key)
     engine = cached_engine(model, opts.cache_dir) if model.has_structures else None
-    pred = predict_chunk(model, chunk, source, opts, engine).frame
+    pred = predict_chunk(model, chunk, source, opts, engine=engine).frame
     frame = screen_frame(pred, model.units, rounded=fmt != "parquet")
     if part is not None:
         partfiles.write_part(frame, part, fmt)
@@ -131,7 +131,7 @@ def _top_row(values, structures) -> TopRow:
     return TopRow(**d, structure={c: str(v) for c, v in zip(structures, values[len(TOP_FIELDS):])})
 
 
-def _tasks(library, in_fmt, model, opts, content, key, chunk_size, fmt, top, folder, local):
+def _tasks(library, in_fmt, model, opts, *, content, key, chunk_size, fmt, top, folder, local):
     needed = list(model.spec.columns) + ([model.spec.multiplicity] if model.spec.multiplicity else [])
     needed += [opts.energy_column] if opts.energy_column else []
     needed += [model.family_column] if model.family_column else []
@@ -160,7 +160,7 @@ def _count(summary: _Tally, part: dict, top: int) -> None:
         summary.top = sorted(summary.top + part["top"], key=lambda r: (not r.in_domain, r.barrier))[:top]
 
 
-def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, chunk_size: int = 20000,
+def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=None, chunk_size: int = 20000,
                top: int = 0, progress: bool = True) -> ScreenSummary:
     """Screen ``library`` with the model in ``model_path`` into ``output``; see the module docstring."""
     from ..io import modelfile
@@ -192,7 +192,7 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
     barriers, lows, floors, parts, header = [], [], [], [], None
     try:
         local = getattr(executor, "local", True)
-        tasks = _tasks(library, in_fmt, model, opts, content, key, chunk_size, out_fmt, top, folder, local)
+        tasks = _tasks(library, in_fmt, model, opts, content=content, key=key, chunk_size=chunk_size, fmt=out_fmt, top=top, folder=folder, local=local)
         window = 2 * workers
         for k, (frame, piece) in enumerate(ordered_results(executor, screen_chunk, tasks, window)):
             part = part_path(folder, k, out_fmt)
@@ -210,7 +210,7 @@ def run_screen(model_path, library, output, opts: ScreenOptions, executor=None, 
         lo = np.concatenate(lows) if lows else np.zeros(0)
         row_floor = (np.concatenate(floors) if floors and floors[0] is not None else floor)
         rank, grouped = ranks(b, lo, row_floor)
-        partfiles.assemble(parts, rank, output, out_fmt, header)
+        partfiles.assemble(parts, rank, output, out_fmt, header_frame=header)
     finally:
         partfiles.discard(folder)
     seconds = time.monotonic() - t0

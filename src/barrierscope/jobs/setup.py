@@ -6,7 +6,7 @@ from __future__ import annotations
 import contextlib
 
 
-def structure_spec(substituents=None, molecule=None, core=None, reaction=None, template=None, multiplicity=None):
+def structure_spec(substituents=None, molecule=None, core=None, reaction=None, *, template=None, multiplicity=None):
     """The structure options as an :class:`~barrierscope.structures.spec.InputSpec`; a
     combination that cannot be used (or an unreadable core or template) names the options."""
     from ..structures.spec import make_spec
@@ -26,7 +26,7 @@ def xtb_settings(level: str = "sp", solvent: str | None = None):
 
 @contextlib.contextmanager
 def descriptor_engine(tiers: str, cache_dir=None, workers: int = 1, scheduler: str | None = None,
-                      xtb_level: str = "sp", solvent: str | None = None):
+                      *, xtb_level: str = "sp", solvent: str | None = None):
     """A :class:`~barrierscope.descriptors.tiers.DescriptorEngine` for the run; the worker
     pool or Dask cluster it starts is shut down when the block ends, whatever happens."""
     from ..descriptors.cache import DescriptorCache

@@ -57,7 +57,7 @@ def _facts(model, cands: Candidates, c: int, goal: str) -> PickFacts:
                      threshold=float(model.domain.threshold_) if np.isfinite(model.domain.threshold_) else None)
 
 
-def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", energy_column: str | None = None,
+def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", *, energy_column: str | None = None,
                  energy_units: str | None = None, id_column: str | None = None, cache_dir="default",
                  max_atoms: int = 200, model=None) -> SuggestRecord:
     """Picks with scores and the facts behind them, plus what was left out and why.
@@ -74,7 +74,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
     opts = ScreenOptions(energy_column=energy_column, energy_units=energy_units, id_column=id_column,
                          cache_dir=cache_dir, max_atoms=max_atoms)
     engine = cached_engine(model, cache_dir) if model.has_structures else None
-    res = predict_chunk(model, table, str(candidates_path), opts, engine)
+    res = predict_chunk(model, table, str(candidates_path), opts, engine=engine)
     frame = res.frame
     ok = (frame["status"] == OK).to_numpy()
     done = ok & _already_computed(model, frame, None if res.block is None else res.block.keys)
@@ -90,7 +90,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
                        ad_distance=sub["ad_distance"].to_numpy(float),
                        given=(sub["energy_source"] == "given").to_numpy())
     near = float(np.median(model.domain.train_distances_)) if model.domain.train_distances_.size else 0.0
-    picks = pick(model.curve, cands, k, goal, energy_state(model) if goal == "predictions" else None,
+    picks = pick(model.curve, cands, k, goal, energy_state=energy_state(model) if goal == "predictions" else None,
                  min_gap=max(0.5, float(np.median(cands.energy_sd))), near=near)
     out = [Pick(id=str(cands.ids[p["index"]]), score=p["score"], energy=float(cands.energy[p["index"]]),
                 energy_sd=float(cands.energy_sd[p["index"]]), energy_given=bool(cands.given[p["index"]]),

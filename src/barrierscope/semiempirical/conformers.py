@@ -44,7 +44,7 @@ def conformer_count(mol: Chem.Mol, requested: int | None = None) -> int:
 
 @quietly
 def build_ensemble(smiles_or_mol, n_conformers: int | None = None, seed: int = 0xB5,
-                   max_iters: int = 2000, both_force_fields: bool = False) -> Ensemble:
+                   max_iters: int = 2000, *, both_force_fields: bool = False) -> Ensemble:
     """Embed and force-field-optimise conformers, lowest force-field energy first.
 
     With ``both_force_fields`` every embedding is relaxed with MMFF94 and, separately, with

@@ -42,7 +42,7 @@ def check_geometry(coords_angstrom) -> None:
             raise XtbError("the 3D geometry has overlapping atoms", "geometry")
 
 
-def _calculator(numbers, coords_angstrom, charge: int, uhf: int, solvent: str | None, accuracy: float):
+def _calculator(numbers, coords_angstrom, charge: int, uhf: int, *, solvent: str | None, accuracy: float):
     from tblite.interface import Calculator
 
     calc = Calculator("GFN2-xTB", np.asarray(numbers, dtype=int),
@@ -63,7 +63,7 @@ def _calculator(numbers, coords_angstrom, charge: int, uhf: int, solvent: str | 
 _SCF_ATTEMPTS = ({}, {"mixer-damping": 0.2, "max-iter": 1000}, {"mixer-damping": 0.05, "max-iter": 2000})
 
 
-def singlepoint(numbers, coords_angstrom, charge: int = 0, uhf: int = 0, solvent: str | None = None,
+def singlepoint(numbers, coords_angstrom, charge: int = 0, uhf: int = 0, *, solvent: str | None = None,
                 accuracy: float = 1.0):
     """GFN2-xTB energy (hartree) and the tblite result object.
 
@@ -73,7 +73,7 @@ def singlepoint(numbers, coords_angstrom, charge: int = 0, uhf: int = 0, solvent
     check_geometry(coords_angstrom)
     last = None
     for extra in _SCF_ATTEMPTS:
-        calc = _calculator(numbers, coords_angstrom, charge, uhf, solvent, accuracy)
+        calc = _calculator(numbers, coords_angstrom, charge, uhf, solvent=solvent, accuracy=accuracy)
         for k, v in extra.items():
             calc.set(k, v)
         try:
@@ -89,14 +89,14 @@ def singlepoint(numbers, coords_angstrom, charge: int = 0, uhf: int = 0, solvent
     return energy, res
 
 
-def optimize_geometry(numbers, coords_angstrom, charge: int = 0, uhf: int = 0, solvent: str | None = None,
+def optimize_geometry(numbers, coords_angstrom, charge: int = 0, uhf: int = 0, *, solvent: str | None = None,
                       gtol: float = 5e-4, max_steps: int = 400, deadline: float | None = None):
     """Minimise the GFN2-xTB energy; returns (energy in hartree, coordinates in Å).
 
     ``gtol`` is the largest gradient component allowed at convergence, hartree/bohr
     (5e-4 is a common 'normal' threshold of quantum-chemistry optimisers).
     """
-    calc = _calculator(numbers, coords_angstrom, charge, uhf, solvent, 1.0)
+    calc = _calculator(numbers, coords_angstrom, charge, uhf, solvent=solvent, accuracy=1.0)
     shape = np.shape(coords_angstrom)
     x0 = np.asarray(coords_angstrom, dtype=float).ravel() * BOHR_PER_ANGSTROM
 

@@ -53,7 +53,7 @@ def species_energy(smiles: str, settings: XtbSettings = XtbSettings(), uhf: int 
     for conf in ens.conformers:
         if time.monotonic() > deadline:
             raise XtbError("time limit reached", "time_limit")
-        e, _ = singlepoint(ens.numbers, conf.coordinates, ens.charge, uhf, settings.solvent)
+        e, _ = singlepoint(ens.numbers, conf.coordinates, ens.charge, uhf, solvent=settings.solvent)
         energies.append(e)
     order = np.argsort(energies)
     best = float(energies[order[0]])
@@ -62,7 +62,7 @@ def species_energy(smiles: str, settings: XtbSettings = XtbSettings(), uhf: int 
         bonds = graph_bonds(ens.mol)
         for i in order[: settings.n_opt]:
             e, xyz = optimize_geometry(ens.numbers, ens.conformers[i].coordinates, ens.charge, uhf,
-                                       settings.solvent, deadline=deadline)
+                                       solvent=settings.solvent, deadline=deadline)
             # An optimisation that makes or breaks a bond has found another molecule.
             if distance_bonds(ens.numbers, xyz) != bonds:
                 continue

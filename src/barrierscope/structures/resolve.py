@@ -49,7 +49,7 @@ def _per_unique(texts, resolve):
     return results, messages, kinds
 
 
-def _first_error(errors, kinds, new_messages, new_kinds, prefix: str):
+def _first_error(errors, kinds, new_messages, new_kinds, *, prefix: str):
     """Keep the first problem of each row; later ones are implied by it."""
     take = pd.isna(errors) & pd.notna(new_messages)
     errors[take] = [f"{prefix}: {m}" for m in new_messages[take]]
@@ -78,7 +78,7 @@ def substituent_columns(df: pd.DataFrame, columns, errors, kinds) -> dict[str, n
         codes, uniques = _factorized(df[col])
         resolved, msg, kind = _per_unique(uniques, substituent_key)
         keys[col] = resolved[codes]
-        _first_error(errors, kinds, msg[codes], kind[codes], col)
+        _first_error(errors, kinds, msg[codes], kind[codes], prefix=col)
     return keys
 
 
@@ -102,7 +102,7 @@ def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAU
         col = spec.columns[0]
         codes, uniques = _factorized(df[col])
         resolved, msg, kind = _per_unique(uniques, lambda t: decomposer.decompose_smiles(t, max_atoms))
-        _first_error(errors, kinds, msg[codes], kind[codes], col)
+        _first_error(errors, kinds, msg[codes], kind[codes], prefix=col)
         keys = {}
         for j, p in enumerate(spec.positions):
             per_u = np.array([r[j] if r is not None else None for r in resolved], dtype=object)
@@ -115,7 +115,7 @@ def resolve_structures(df: pd.DataFrame, spec: InputSpec, max_atoms: int = DEFAU
         col = spec.columns[0]
         codes, uniques = _factorized(df[col])
         resolved, msg, kind = _per_unique(uniques, lambda t: molecule_key(t, max_atoms))
-        _first_error(errors, kinds, msg[codes], kind[codes], col)
+        _first_error(errors, kinds, msg[codes], kind[codes], prefix=col)
         return Resolution("molecule", spec.positions, {spec.positions[0]: resolved[codes]}, errors, kinds)
 
     if spec.mode in ("reaction", "template"):

@@ -51,7 +51,7 @@ class InputSpec:
 
 
 def make_spec(substituents: str | None = None, molecule: str | None = None, core: str | None = None,
-              reaction: str | None = None, template: str | None = None,
+              reaction: str | None = None, *, template: str | None = None,
               multiplicity: str | None = None) -> InputSpec:
     """The spec from command-line options; the error says which combinations are allowed."""
     subs = tuple(c.strip() for c in substituents.split(",") if c.strip()) if substituents else ()

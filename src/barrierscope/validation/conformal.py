@@ -29,7 +29,7 @@ def _inner_splits(splits: list[Split], random_state: int) -> list[tuple[int, np.
     return out
 
 
-def _predictions(X, energy, barrier, inner, routes, kw) -> dict[str, list]:
+def _predictions(X, energy, barrier, inner, *, routes, kw) -> dict[str, list]:
     """Each route's predictions for every inner split (aligned with the split's test)."""
     groups: dict = {}
     for j, (_, _, sp) in enumerate(inner):
@@ -43,13 +43,13 @@ def _predictions(X, energy, barrier, inner, routes, kw) -> dict[str, list]:
     return preds
 
 
-def jackknife_coverage(X, energy, barrier, splits: list[Split], routes, *, level: float = 0.90,
+def jackknife_coverage(X, energy, barrier, splits: list[Split], *, routes, level: float = 0.90,
                        random_state: int = 0, **kw) -> dict[str, JackknifeCoverage]:
     """Per route: {``coverage``: share of the held-out members inside their jackknife+ interval,
     ``width``: the median finite interval width (kcal/mol), ``n_test``}."""
     barrier = np.asarray(barrier, dtype=float)
     inner = _inner_splits(splits, random_state)
-    preds = _predictions(X, energy, barrier, inner, tuple(routes), dict(kw, random_state=random_state))
+    preds = _predictions(X, energy, barrier, inner, routes=tuple(routes), kw=dict(kw, random_state=random_state))
     out = {}
     for r in routes:
         inside, widths = [], []
@@ -69,7 +69,7 @@ def jackknife_coverage(X, energy, barrier, splits: list[Split], routes, *, level
     return out
 
 
-def coverage_by_regime(X, energy, barrier, routes, opts) -> dict[str, dict]:
+def coverage_by_regime(X, energy, barrier, routes, *, opts) -> dict[str, dict]:
     """:func:`jackknife_coverage` in every regime that ran (``opts``: the validation options)."""
     from .run import standardised
     from .splits import regimes
@@ -77,7 +77,7 @@ def coverage_by_regime(X, energy, barrier, routes, opts) -> dict[str, dict]:
     has_x = X is not None and np.shape(X)[1] > 0
     plan = regimes(np.asarray(energy, dtype=float), standardised(X) if has_x else None, opts.random_state,
                    opts.regimes)
-    return {name: jackknife_coverage(X if has_x else None, energy, barrier, regime.splits, routes, level=opts.level,
+    return {name: jackknife_coverage(X if has_x else None, energy, barrier, regime.splits, routes=routes, level=opts.level,
                                      random_state=opts.random_state, learner=opts.learner, relation=opts.relation)
             for name, regime in plan.items() if not regime.skipped}
 

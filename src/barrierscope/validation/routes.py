@@ -54,7 +54,7 @@ class FoldCurves:
         rel, th = self.relations[k], self.theta[k]
         e = np.asarray(energy, dtype=float)
         var = predictive_variance(rel.jacobian(e, th), self.cov[k], self.sigma[k], rel.slope(e, th),
-                                  None if energy_std is None else np.broadcast_to(energy_std, e.shape))
+                                  energy_std=None if energy_std is None else np.broadcast_to(energy_std, e.shape))
         mean, std = rel.barrier(e, th), np.sqrt(var)
         q = t_quantile(level, max(int(self.dof[k]), 1))
         return mean, std, mean - q * std, mean + q * std
@@ -90,8 +90,10 @@ class OutOfFold:
     #: route → one array per split, aligned with that split's ``test`` (test sets may overlap)
     by_split: dict[str, list] = field(default_factory=dict)
 
-    def _put(self, route, idx, mean, std, low, high):
-        for store, v in ((self.pred, mean), (self.std, std), (self.low, low), (self.high, high)):
+    def _put(self, route, idx, values):
+        """Store ``values`` = (mean, std, low, high) of the members ``idx`` under ``route``."""
+        mean = values[0]
+        for store, v in zip((self.pred, self.std, self.low, self.high), values):
             store.setdefault(route, np.full(self.n, np.nan))[idx] = v
         self.by_split.setdefault(route, []).append(np.broadcast_to(np.asarray(mean, dtype=float), np.shape(idx)))
 
@@ -103,7 +105,7 @@ def _weights(splits: list[Split], n: int) -> np.ndarray:
     return w
 
 
-def _nested_refits(rel, x, y, trains: list[np.ndarray], thetas):
+def _nested_refits(rel, x, y, trains: list[np.ndarray], *, thetas):
     """For every split k and every training member i of it: the relation refitted to split k's
     training members without i, warm-started at split k's own fit θ_k and kept within split
     k's bounds. Returns (theta (rows, p), owner k per row, left-out member per row)."""
@@ -122,7 +124,7 @@ def _nested_refits(rel, x, y, trains: list[np.ndarray], thetas):
         owner += [k] * train.size
         left += list(train)
     lows, highs = np.array(lows), np.array(highs)
-    theta, _, _ = lm_solve(rel, x, y, np.array(w_rows), interior(np.array(starts), lows, highs), lows, highs)
+    theta, _, _ = lm_solve(rel, x, y, np.array(w_rows), theta0=interior(np.array(starts), lows, highs), lo=lows, hi=highs)
     return theta, np.array(owner), np.array(left)
 
 
@@ -138,7 +140,7 @@ def _choose_relations(x, y, trains: list[np.ndarray]) -> list[str]:
         if min(t.size for t in trains) < rel.n_params + 2:
             continue
         base = fit_subsets(rel, x, y, w).theta
-        theta, owner, left = _nested_refits(rel, x, y, trains, base)
+        theta, owner, left = _nested_refits(rel, x, y, trains, thetas=base)
         err = rel.barrier(x[left][:, None], theta)[:, 0] - y[left]
         scores[name] = np.sqrt(np.bincount(owner, err * err) / np.bincount(owner))
     names = list(scores)
@@ -169,7 +171,7 @@ def fold_curves(relation: str, energy, barrier, splits: list[Split]) -> FoldCurv
     return out
 
 
-def _nested_curve_barriers(curves: FoldCurves, x, y, splits, e_oof) -> list[np.ndarray]:
+def _nested_curve_barriers(curves: FoldCurves, x, y, splits, *, e_oof) -> list[np.ndarray]:
     """Per split, each training member's barrier from the split's curve refitted without it,
     fed its out-of-fold energy. All nested refits of one relation are solved together."""
     out: list = [None] * len(splits)
@@ -178,13 +180,13 @@ def _nested_curve_barriers(curves: FoldCurves, x, y, splits, e_oof) -> list[np.n
         group = [k for k in range(len(splits)) if names[k] == name]
         rel = curves.relations[group[0]]
         theta, owner, _ = _nested_refits(rel, x, y, [splits[k].train for k in group],
-                                         [curves.theta[k] for k in group])
+                                         thetas=[curves.theta[k] for k in group])
         for j, k in enumerate(group):
             out[k] = rel.barrier(np.asarray(e_oof[k], dtype=float)[:, None], theta[owner == j])[:, 0]
     return out
 
 
-def _fold_fits(X, targets, splits, learner, random_state, oof: bool = False, designs: dict | None = None,
+def _fold_fits(X, targets, splits, learner, *, random_state, oof: bool = False, designs: dict | None = None,
                warm=None) -> list[dict]:
     """Per split: the learner fitted on its training members' targets (``targets``: one value
     per member, or a list with each split's training targets) — test predictions (``pred``,
@@ -244,19 +246,19 @@ def out_of_fold(X, energy, barrier, splits: list[Split], *, learner: str = "ridg
         span = (x[s.train].min(), x[s.train].max())
         out.energy_true_outside[s.test] = (x[s.test] < span[0]) | (x[s.test] > span[1])
         if "curve_on_true_energy" in routes:
-            out._put("curve_on_true_energy", s.test, *curves.predict(k, x[s.test], level=level))
+            out._put("curve_on_true_energy", s.test, curves.predict(k, x[s.test], level=level))
         if "family_mean" in routes:
             yt = y[s.train]
             sd = float(np.std(yt, ddof=1)) * np.sqrt(1.0 + 1.0 / yt.size) if yt.size > 1 else np.nan
             q = t_quantile(level, max(yt.size - 1, 1))
-            out._put("family_mean", s.test, yt.mean(), sd, yt.mean() - q * sd, yt.mean() + q * sd)
+            out._put("family_mean", s.test, (yt.mean(), sd, yt.mean() - q * sd, yt.mean() + q * sd))
     if has_x:
-        _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, level, routes, domain,
-                           {} if designs is None else designs)
+        _descriptor_routes(out, X, x, y, splits=splits, curves=curves, learner=learner, random_state=random_state, level=level, routes=routes, domain=domain,
+                           designs={} if designs is None else designs)
     return out
 
 
-def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, level, routes, domain, designs) -> None:
+def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, level, routes, domain, designs) -> None:
     n = x.size
     z = float(special.ndtri(0.5 + level / 2))
     for name in ("energy", "energy_std", "ad_distance"):
@@ -269,9 +271,9 @@ def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, leve
     if learner != "ridge":
         warm_e = DescriptorRegressor(learner, random_state).fit(X, x)
         warm_d = DescriptorRegressor(learner, random_state).fit(X, y) if "direct" in routes else None
-    energy_fits = _fold_fits(X, x, splits, learner, random_state, oof="hybrid" in routes, designs=designs,
+    energy_fits = _fold_fits(X, x, splits, learner, random_state=random_state, oof="hybrid" in routes, designs=designs,
                              warm=warm_e)
-    direct_fits = (_fold_fits(X, y, splits, learner, random_state, designs=designs, warm=warm_d)
+    direct_fits = (_fold_fits(X, y, splits, learner, random_state=random_state, designs=designs, warm=warm_d)
                    if "direct" in routes else None)
     e_split = []   # each split's own energies: test sets may overlap (nested jackknife+)
     for k, s in enumerate(splits):
@@ -287,15 +289,15 @@ def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, leve
             out.ad_distance[s.test] = ad.distance(f["Zt"])
             out.ad_out[s.test] = out.ad_distance[s.test] > ad.threshold_
         if "two_stage" in routes:
-            out._put("two_stage", s.test, *curves.predict(k, e_hat, f["sd"], level))
+            out._put("two_stage", s.test, curves.predict(k, e_hat, f["sd"], level))
         if direct_fits is not None:
             d, ds = direct_fits[k]["pred"], direct_fits[k]["sd"]
-            out._put("direct", s.test, d, ds, d - z * ds, d + z * ds)
+            out._put("direct", s.test, (d, ds, d - z * ds, d + z * ds))
     if "hybrid" in routes:
         # Each split's correction learns that split's out-of-fold residuals of the chain.
-        nested = _nested_curve_barriers(curves, x, y, splits, [f["oof"] for f in energy_fits])
+        nested = _nested_curve_barriers(curves, x, y, splits, e_oof=[f["oof"] for f in energy_fits])
         corrections = _fold_fits(X, [y[s.train] - nested[k] for k, s in enumerate(splits)], splits, learner,
-                                 random_state, designs=designs, warm=warm_e)
+                                 random_state=random_state, designs=designs, warm=warm_e)
     else:
         corrections = []
     out.optimizer_capped = sum(f.get("capped", 0) for f in [*energy_fits, *(direct_fits or []), *corrections])
@@ -304,4 +306,4 @@ def _descriptor_routes(out, X, x, y, splits, curves, learner, random_state, leve
         for k, s in enumerate(splits):
             base = curves.predict(k, e_split[k], energy_fits[k]["sd"], level)[0]
             h, cs = base + corrections[k]["pred"], corrections[k]["sd"]
-            out._put("hybrid", s.test, h, cs, h - z * cs, h + z * cs)
+            out._put("hybrid", s.test, (h, cs, h - z * cs, h + z * cs))

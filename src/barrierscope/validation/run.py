@@ -49,7 +49,7 @@ def standardised(X) -> np.ndarray | None:
     return Preprocessor.fit(A, [str(c) for c in range(A.shape[1])]).transform(A)
 
 
-def _regime_record(oof, energy, barrier, ids, random_state) -> RegimeRecord:
+def _regime_record(oof, energy, barrier, ids, *, random_state) -> RegimeRecord:
     routes = {r: metrics(barrier, oof.pred[r], oof.low[r], oof.high[r]) for r in ROUTES if r in oof.pred}
     decision = decide({r: oof.pred[r] - barrier for r in oof.pred}, ids, random_state)
     return RegimeRecord(n_test=int(oof.tested.sum()), routes=routes, winner=decision["winner"],
@@ -93,7 +93,7 @@ def _members(oof, energy, barrier, ids) -> MembersTable:
                         energy_true_outside=oof.energy_true_outside.tolist(), unusual=unusual, **domain)
 
 
-def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOptions()) -> ValidationRecord:
+def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOptions()) -> ValidationRecord:
     """Every regime in ``opts.regimes``; see the module docstring. Energies in kcal/mol."""
     energy = np.asarray(energy, dtype=float)
     barrier = np.asarray(barrier, dtype=float)
@@ -110,7 +110,7 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
             regimes_out[name] = RegimeRecord(skipped=regime.skipped)
             continue
         oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, designs=designs, **kw)
-        regimes_out[name] = _regime_record(oof, energy, barrier, ids, opts.random_state)
+        regimes_out[name] = _regime_record(oof, energy, barrier, ids, random_state=opts.random_state)
         capped, fits = capped + oof.optimizer_capped, fits + oof.fits
         if name == "loo":
             loo = oof
@@ -139,6 +139,6 @@ def validate(X, energy, barrier, ids, opts: ValidationOptions = ValidationOption
         winner=top.winner, members=_members(loo, energy, barrier, ids),
         relations_chosen_in_folds=({k: loo.relations.count(k) for k in sorted(set(loo.relations))}
                                    if opts.relation == "auto" else None),
-        y_randomization=(y_randomization(X, energy, barrier, opts.learner, opts.relation, shuffles,
-                                         opts.random_state, designs) if has_x and shuffles else None),
+        y_randomization=(y_randomization(X, energy, barrier, opts.learner, relation=opts.relation, n_shuffles=shuffles,
+                                         random_state=opts.random_state, designs=designs) if has_x and shuffles else None),
         notes=notes)

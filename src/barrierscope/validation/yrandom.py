@@ -27,7 +27,7 @@ def constant_predictor_loo_mae(y) -> float:
     return float(min(np.mean(np.abs(y - loo_mean)), np.mean(np.abs(y - loo_median))))
 
 
-def y_randomization(X, energy, barrier, learner: str, relation: str, n_shuffles: int = 5,
+def y_randomization(X, energy, barrier, learner: str, *, relation: str, n_shuffles: int = 5,
                     random_state: int = 0, designs: dict | None = None) -> YRandomization:
     """Leave-one-out MAE of the two-stage and direct routes refitted on shuffled pairs."""
     rng = np.random.default_rng(random_state)

@@ -51,7 +51,7 @@ def _grid(x):
     return np.linspace(lo - pad, hi + pad, 400)
 
 
-def draw_curve(ax, model, unit: str | None = None, comparison=None, picks=None):
+def draw_curve(ax, model, unit: str | None = None, comparison=None, *, picks=None):
     """Members, the fitted relation with its prediction band, its floor and uphill asymptote,
     every relation of ``comparison`` (a :class:`~barrierscope.curves.compare.Comparison`) and
     suggested picks (kcal/mol records), on ``ax``, in ``unit`` (default: the model's)."""
@@ -209,7 +209,7 @@ def hammett_png(hammett, barrier_kcal, unit: str) -> bytes:
     return png(fig)
 
 
-def families_png(families: dict, relation: str, shared, energy, barrier, fam, names, unit: str) -> bytes:
+def families_png(families: dict, relation: str, shared, energy, *, barrier, fam, names, unit: str) -> bytes:
     """Every family's members and its jointly fitted curve, one colour and marker each;
     ``families`` {name: FamilyEntry} (kcal/mol) of ``relation``, with ``shared`` parameters."""
     from ..relations import get_relation

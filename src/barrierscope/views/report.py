@@ -84,10 +84,10 @@ def _members(rec: dict, unit: str, model=None) -> str:
                    "curve on true dE", "flags"], rows))
 
 
-def _curve(model, rec, comparison, unit, picks, figures_dir) -> str:
+def _curve(model, rec, comparison, unit, *, picks, figures_dir) -> str:
     curve = model.curve
     parts = ["<h2>Barrier against reaction energy</h2>",
-             figure(fg.figure_png(fg.draw_curve, model, unit, comparison, picks), "Members, every fitted relation, "
+             figure(fg.figure_png(fg.draw_curve, model, unit, comparison, picks=picks), "Members, every fitted relation, "
                     "the prediction band of the model's relation, its floor and its uphill asymptote" +
                     ("; stars: suggested next calculations" if picks else "") + ".", "curve", figures_dir)]
     c = in_unit(curve.record(), unit)
@@ -118,7 +118,7 @@ def _curve(model, rec, comparison, unit, picks, figures_dir) -> str:
     return "".join(parts)
 
 
-def _diagnostics(model, rec, unit, screen, figures_dir) -> str:
+def _diagnostics(model, rec, unit, screen, *, figures_dir) -> str:
     parts = []
     if rec.get("members"):
         parts.append("<h2>Leave-one-out predictions</h2>")
@@ -144,7 +144,7 @@ def _diagnostics(model, rec, unit, screen, figures_dir) -> str:
     return "".join(parts)
 
 
-def build_report(model, record, comparison, source: str = "", screen=None, picks=None,
+def build_report(model, record, comparison, source: str = "", *, screen=None, picks=None,
                  figures_dir: Path | None = None, extra_sections=()) -> str:
     """The report's HTML. ``record``: the FitRecord (kcal/mol); ``comparison``: every relation
     on the training pairs; ``screen``: a ScreenSummary; ``picks``: a SuggestRecord;
@@ -159,10 +159,10 @@ def build_report(model, record, comparison, source: str = "", screen=None, picks
              f"{datetime.now(timezone.utc).strftime('%Y-%m-%d %H:%M UTC')} by barrierscope {esc(__version__)}</p>",
              f"<div class='caution'>{esc(CAUTION)}</div>",
              f"<h2>Verdict</h2><div class='verdict'>{esc(verdict_text(rec, unit, model.tiers))}</div>",
-             _validation(rec, unit), _members(rec, unit, model), _curve(model, rec, comparison, unit, pick_list, figures_dir),
+             _validation(rec, unit), _members(rec, unit, model), _curve(model, rec, comparison, unit, picks=pick_list, figures_dir=figures_dir),
              hammett_section(record.hammett, model.training["barrier"], unit, figures_dir),
              families_section(record, model, unit, figures_dir),
-             _diagnostics(model, rec, unit, screen, figures_dir), *extra_sections]
+             _diagnostics(model, rec, unit, screen, figures_dir=figures_dir), *extra_sections]
     notes = list(rec.get("warnings", [])) + list(rec.get("notes", []))
     if notes or rec.get("skipped"):
         parts.append("<h2>Warnings and notes</h2><ul>" + "".join(f"<li>{esc(w)}</li>" for w in notes) +
