@@ -127,31 +127,6 @@ SHARE = typer.Option(None, "--share", help="With --family: parameters shared by 
 OLD_UNITS = typer.Option(None, "--energy-units", hidden=True)
 
 
-def one_unit(units: Optional[str], old: Optional[str]) -> Optional[str]:
-    """The library energy unit, normalised; None for the model's."""
-    from .errors import InputError
-    from .jobs.options import option
-    from .units import normalize_unit
-
-    if units and old and units != old:
-        raise InputError(f"--units {units} and --energy-units {old} disagree (they are the same option)")
-    if not (units or old):
-        return None
-    with option("--units"):
-        return normalize_unit(units or old)
-
-
-def temperature_option(text: str) -> float:
-    """--temperature in kelvin (a warning when a bare number looks like Celsius)."""
-    from .jobs.options import option
-    from .units import parse_temperature
-
-    with option("--temperature"):
-        kelvin, note = parse_temperature(text)
-    warn([note] if note else [])
-    return kelvin
-
-
 @app.command()
 @guarded
 def curve(data: Path = typer.Argument(..., help="Table with one row per member (CSV, TSV, XLSX, Parquet, SDF)."),
@@ -292,12 +267,15 @@ def screen(model: Path = typer.Argument(..., help="Model file written by `barrie
     from .jobs.predict import ScreenOptions
     from .jobs.screen import run_screen
 
-    from .jobs.options import at_least, positive
+    from .jobs.options import at_least, library_unit, positive
+    from .jobs.options import temperature as temperature_option
     from .views.screen_text import format_screen
 
-    units = one_unit(units, energy_units)
+    units = library_unit(units, energy_units)
     at_least("--chunk-size", chunk_size, 1)
-    opts = ScreenOptions(temperature=temperature_option(temperature),
+    kelvin, note = temperature_option(temperature)
+    warn([note] if note else [])
+    opts = ScreenOptions(temperature=kelvin,
                          transmission=positive("--transmission", transmission), energy_column=energy,
                          energy_units=units, id_column=id_column,
                          cache_dir=str(cache_dir) if cache_dir is not None else "default", max_atoms=max_atoms)
@@ -333,10 +311,11 @@ def suggest(model: Path = typer.Argument(..., help="Model file written by `barri
     """Suggest which candidates to compute next, and why."""
     from .io.modelfile import load_model
     from .jobs.report import write_report
+    from .jobs.options import library_unit
     from .jobs.suggest import suggest_file
     from .views.suggest_text import format_suggestions, suggest_json
 
-    units = one_unit(units, energy_units)
+    units = library_unit(units, energy_units)
     fitted = load_model(model)
     result = suggest_file(model, candidates, k, goal, energy_column=energy, energy_units=units, id_column=id_column,
                           cache_dir=str(cache_dir) if cache_dir is not None else "default", model=fitted)

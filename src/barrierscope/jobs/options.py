@@ -40,3 +40,24 @@ def one_of(flag: str, value: str, choices) -> str:
     if key not in choices:
         raise InputError(f"{flag} {value!r}: choose one of {', '.join(choices)}")
     return key
+
+
+def library_unit(units: str | None, old: str | None = None) -> str | None:
+    """A library's energy unit (``--units``, or its older spelling ``--energy-units``),
+    normalised; None for the model's own."""
+    from ..units import normalize_unit
+
+    if units and old and units != old:
+        raise InputError(f"--units {units} and --energy-units {old} disagree (they are the same option)")
+    if not (units or old):
+        return None
+    with option("--units"):
+        return normalize_unit(units or old)
+
+
+def temperature(text: str) -> tuple[float, str]:
+    """``--temperature`` in kelvin, and a note when a bare number looks like Celsius."""
+    from ..units import parse_temperature
+
+    with option("--temperature"):
+        return parse_temperature(text)
