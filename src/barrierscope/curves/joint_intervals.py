@@ -13,24 +13,16 @@ from __future__ import annotations
 
 import numpy as np
 
-from .intervals import ProfileInterval, profile_cut, profile_interval, t_quantile
-from .joint import JointFit, _solve
-
-
-class _JointProfile:
-    def __init__(self, fit: JointFit, x, y, fam, *, i: int):
-        self.fit, self.x, self.y, self.fam, self.i = fit, x, y, fam, i
-
-    def rss(self, value: float, start) -> tuple[float, np.ndarray]:
-        lo, hi = self.fit.bounds
-        u, rss = _solve(self.fit.relation, self.fit.layout, self.x, self.y, fam=self.fam, start=start, lo=lo, hi=hi,
-                        fixed={self.i: value})
-        return rss, u
+from .intervals import ProfileInterval, profile_all, profile_cut, t_quantile
+from .joint import JointFit
+from .joint_batch import joint_lm
 
 
 def joint_profile_intervals(fit: JointFit, energy, barrier, fam, *, level: float = 0.95,
                             log_scale=("width",)) -> dict[int, ProfileInterval]:
-    """Joint position → its profile-t interval (open ends marked)."""
+    """Joint position → its profile-t interval (open ends marked). Every end of every
+    parameter is searched together, each point of every profile one batched joint solve
+    (:func:`.intervals.profile_all` over :func:`.joint_batch.joint_lm`)."""
     x, y, fam = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float), np.asarray(fam, dtype=int)
     lo, hi = fit.bounds
     g_cut = profile_cut(fit.rss, fit.dof, level)
@@ -39,9 +31,20 @@ def joint_profile_intervals(fit: JointFit, energy, barrier, fam, *, level: float
     names = fit.relation.param_names
     owner = {fit.layout.index(k, j): names[j] for k in range(fit.layout.n_families) for j in range(len(names))}
     se = np.sqrt(np.clip(np.diag(fit.cov), 0.0, None))
-    return {i: profile_interval(_JointProfile(fit, x, y, fam, i=i), fit.u, g_cut, value=fit.u[i], se=se[i], lo=lo[i],
-                                hi=hi[i], log=owner[i] in log_scale)
-            for i in range(fit.layout.size)}
+    ones = np.ones(x.size)
+
+    def solve(coords, values, starts):
+        u0 = np.array(starts, dtype=float)
+        u0[np.arange(coords.size), coords] = values
+        fixed = np.zeros(u0.shape, dtype=bool)
+        fixed[np.arange(coords.size), coords] = True
+        u, cost, _ = joint_lm(fit.relation, fit.layout, x, y, fam, weights=np.tile(ones, (coords.size, 1)), u0=u0,
+                              lo=lo, hi=hi, fixed=fixed)
+        return cost, u
+
+    log = np.array([owner[i] in log_scale for i in range(fit.layout.size)])
+    found = profile_all(solve, fit.u, se, lo, hi, log=log, g_cut=g_cut, rss_hat=fit.rss)
+    return dict(enumerate(found))
 
 
 def _derived(rel, theta, centre: float) -> dict[str, float]:

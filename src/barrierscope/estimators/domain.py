@@ -16,19 +16,29 @@ from __future__ import annotations
 import numpy as np
 
 
-def knn_mean_distance(Z: np.ndarray, train: np.ndarray, k: int, chunk: int = 20000) -> np.ndarray:
-    """Mean Euclidean distance of each row of Z to its k nearest rows of ``train``.
+#: Distances held at once (rows × training members): a memory bound of about 32 MB.
+_DISTANCE_BLOCK = 4_000_000
+
+
+def knn_mean_distance(Z: np.ndarray, train: np.ndarray, k: int, *, exclude_self: bool = False) -> np.ndarray:
+    """Mean Euclidean distance of each row of Z to its k nearest rows of ``train``; with
+    ``exclude_self`` (Z is ``train``), each row's distance to itself does not count.
 
     ``scipy.spatial.distance.cdist`` subtracts coordinates directly, so distances to points
-    close to training members do not lose digits to cancellation.
+    close to training members do not lose digits to cancellation. Rows are taken in blocks,
+    so memory stays bounded however large Z and the training set are.
     """
     from scipy.spatial.distance import cdist
 
     Z = np.ascontiguousarray(Z, dtype=float)
     out = np.empty(Z.shape[0])
-    kk = min(k, train.shape[0])
+    kk = min(k, train.shape[0] - (1 if exclude_self else 0))
+    chunk = max(1, _DISTANCE_BLOCK // max(1, train.shape[0]))
     for s in range(0, Z.shape[0], chunk):
         d = cdist(Z[s:s + chunk], train)
+        if exclude_self:
+            rows = np.arange(d.shape[0])
+            d[rows, s + rows] = np.inf
         out[s:s + chunk] = np.partition(d, kk - 1, axis=1)[:, :kk].mean(axis=1)
     return out
 
@@ -45,13 +55,8 @@ class ApplicabilityDomain:
         self.energy_range_ = (float(np.min(energy)), float(np.max(energy)))
         self.train_ = None if Z is None or np.shape(Z)[1] == 0 else np.ascontiguousarray(Z, dtype=float)
         if self.train_ is not None and self.train_.shape[0] > 1:
-            from scipy.spatial.distance import cdist
-
-            n = self.train_.shape[0]
-            d = cdist(self.train_, self.train_)
-            np.fill_diagonal(d, np.inf)  # a member's own distance does not count
-            kk = min(self.k, n - 1)
-            self.train_distances_ = np.partition(d, kk - 1, axis=1)[:, :kk].mean(axis=1)
+            # a member's own distance does not count
+            self.train_distances_ = knn_mean_distance(self.train_, self.train_, self.k, exclude_self=True)
             self.threshold_ = float(np.quantile(self.train_distances_, self.quantile))
         else:
             self.train_distances_ = np.zeros(0)

@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 
 from .base import RegressorProtocol, check_fitted
-from ..curves.batch import loo_weights, refit_weighted
+from ..curves.batch import refit_weighted
 from .descriptor_regressor import DescriptorRegressor
 from .two_stage import EnergyRouteMixin, TwoStageRegressor, rows
 
@@ -35,13 +35,23 @@ def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, *, fitted
     return out
 
 
-def out_of_fold_barrier(curve, energy, barrier, energy_oof) -> np.ndarray:
-    """Each member's barrier from the curve refitted without it (warm-started at the full
-    fit, which never saw the member a caller holds out), fed its out-of-fold energy."""
+def out_of_fold_barrier(curve, energy, barrier, energy_oof, random_state: int = 0) -> np.ndarray:
+    """Each member's barrier from the curve refitted without it (without its fold, above
+    ``LOO_MAX`` members; warm-started at the full fit, which never saw the member a caller
+    holds out), fed its out-of-fold energy."""
+    from ..validation.splits import held_out_sets
+
     energy = np.asarray(energy, dtype=float)
-    thetas = refit_weighted(curve.relation_, energy, barrier, loo_weights(energy.size), theta0=curve.params_,
+    held = held_out_sets(energy.size, random_state)
+    w = np.ones((len(held), energy.size))
+    for r, h in enumerate(held):
+        w[r, h] = 0.0
+    thetas = refit_weighted(curve.relation_, energy, barrier, w, theta0=curve.params_,
                             bounds=curve.relation_.bounds(energy, barrier))
-    return curve.relation_.barrier(np.asarray(energy_oof, dtype=float)[:, None], thetas)[:, 0]
+    member_theta = np.empty((energy.size, thetas.shape[1]))
+    for r, h in enumerate(held):
+        member_theta[h] = thetas[r]
+    return curve.relation_.barrier(np.asarray(energy_oof, dtype=float)[:, None], member_theta)[:, 0]
 
 
 class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
@@ -87,7 +97,8 @@ class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
         self.two_stage_ = TwoStageRegressor(self.learner, self.relation, random_state=self.random_state).fit(
             D, barrier, energy)
         e_oof = out_of_fold_energy(D, energy, self.learner, self.random_state, fitted=self.two_stage_.energy_)
-        self.oof_residuals_ = barrier - out_of_fold_barrier(self.two_stage_.curve_, energy, barrier, e_oof)
+        self.oof_residuals_ = barrier - out_of_fold_barrier(self.two_stage_.curve_, energy, barrier, e_oof,
+                                                            self.random_state)
         self.correction_ = DescriptorRegressor(self.learner, self.random_state).fit(D, self.oof_residuals_)
         return self
 

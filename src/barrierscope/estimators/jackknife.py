@@ -34,10 +34,9 @@ CV_FOLDS = 10
 
 def folds(n: int, random_state: int = 0) -> list[np.ndarray]:
     """Held-out index sets: one member each for n ≤ MAX_JACKKNIFE, else CV_FOLDS shuffled folds."""
-    if n <= MAX_JACKKNIFE:
-        return [np.array([i]) for i in range(n)]
-    order = np.random.default_rng(random_state).permutation(n)
-    return [np.sort(f) for f in np.array_split(order, CV_FOLDS)]
+    from ..validation.splits import held_out_sets
+
+    return held_out_sets(n, random_state, single_up_to=MAX_JACKKNIFE, k=CV_FOLDS)
 
 
 def conformal_bounds(mu, resid, level: float) -> tuple[np.ndarray, np.ndarray]:

@@ -14,11 +14,12 @@ Validation:
 
 from __future__ import annotations
 
-from dataclasses import replace
 
 import numpy as np
 
-from ..curves.fit import FitError, fit_relation
+from ..curves.batch import refit_weighted
+from ..curves.fit import fit_relation
+from ..curves.joint_batch import joint_lm
 from ..errors import FitRefused, InputError
 from ..curves.intervals import profile_intervals
 from ..curves.joint import fit_joint, separate_fits, sharing_test
@@ -133,54 +134,65 @@ def _scores(y, preds: dict, base: str = "joint", note: str = "") -> FamilyRegime
                         joint_beats=[k.split("_vs_")[1] for k, c in pairs.items() if beats(c)])
 
 
+def _rows_without(n: int, held: list[np.ndarray], base=None) -> np.ndarray:
+    """Weights (len(held), n): ``base`` (all ones by default) with each row's ``held`` members zeroed."""
+    w = np.tile(np.ones(n) if base is None else np.asarray(base, dtype=float), (len(held), 1))
+    for r, h in enumerate(held):
+        w[r, h] = 0.0
+    return w
+
+
 def member_loo(fit, x, y, fam, *, separate, energy_pred=None) -> FamilyRegime:
     """Leave-one-out by member: joint, separate, pooled and family-mean predictions (and the
-    two-stage route through the joint curves, from ``energy_pred``)."""
-    n, own = x.size, len(fit.layout.own_idx)
-    counts = np.bincount(fam, minlength=fit.layout.n_families)
+    two-stage route through the joint curves, from ``energy_pred``). Every refit is warm-started
+    at the full fit; the joint refits of all members are solved together, family blocks and
+    all (:func:`..curves.joint_batch.joint_lm`)."""
+    n, own, rel, layout = x.size, len(fit.layout.own_idx), fit.relation, fit.layout
+    counts = np.bincount(fam, minlength=layout.n_families)
     routes = ("joint", "separate", "pooled", "family_mean") + (("two_stage",) if energy_pred is not None else ())
     preds = {r: np.full(n, np.nan) for r in routes}
-    rel = fit.relation
+    members = [np.array([i]) for i in range(n)]
+    lo, hi = fit.bounds
+    U, _, _ = joint_lm(rel, layout, x, y, fam, weights=_rows_without(n, members), u0=fit.u, lo=lo, hi=hi)
+    theta = np.array([layout.unpack(U[i])[fam[i]] for i in range(n)])           # each member's own family
+    ok = counts[fam] - 1 >= own + 1
+    preds["joint"][ok] = rel.barrier(x[ok][:, None], theta[ok])[:, 0]
+    if energy_pred is not None:
+        preds["two_stage"][ok] = rel.barrier(np.asarray(energy_pred, dtype=float)[ok][:, None], theta[ok])[:, 0]
     pooled = fit_relation(rel, x, y)
-    for i in range(n):
-        keep = np.arange(n) != i
-        k = fam[i]
-        same = (fam == k) & keep
-        preds["family_mean"][i] = y[same].mean() if same.any() else np.nan
-        preds["pooled"][i] = rel.barrier(x[i:i + 1], fit_relation(rel, x[keep], y[keep], x0=pooled.params).params)[0]
-        if counts[k] - 1 >= own + 1:
-            refit = fit_joint(rel, x[keep], y[keep], fam[keep], n_families=fit.layout.n_families, shared=fit.layout.shared, start=fit.u)
-            preds["joint"][i] = refit.predict(x[i:i + 1], [k])[0]
-            if energy_pred is not None:
-                preds["two_stage"][i] = refit.predict(np.asarray(energy_pred, dtype=float)[i:i + 1], [k])[0]
-        if separate[k] is not None and same.sum() >= rel.n_params + 1:
-            try:
-                preds["separate"][i] = rel.barrier(x[i:i + 1], fit_relation(rel, x[same], y[same],
-                                                                           x0=separate[k].params).params)[0]
-            except FitError:
-                pass
+    pt = refit_weighted(rel, x, y, _rows_without(n, members), theta0=pooled.params, bounds=rel.bounds(x, y))
+    preds["pooled"] = rel.barrier(x[:, None], pt)[:, 0]
+    for k in range(layout.n_families):
+        idx = np.flatnonzero(fam == k)
+        if idx.size > 1:
+            preds["family_mean"][idx] = (y[idx].sum() - y[idx]) / (idx.size - 1)
+        if separate[k] is None or idx.size - 1 < rel.n_params + 1:
+            continue
+        home = np.zeros(n)
+        home[idx] = 1.0
+        th = refit_weighted(rel, x, y, _rows_without(n, [np.array([i]) for i in idx], home),
+                            theta0=separate[k].params, bounds=rel.bounds(x[idx], y[idx]))
+        preds["separate"][idx] = rel.barrier(x[idx][:, None], th)[:, 0]
     return _scores(y, preds)
 
 
 def leave_family_out(fit, x, y, fam, *, names) -> FamilyRegime:
-    """Each family predicted from the others (see the module docstring)."""
-    K = fit.layout.n_families
+    """Each family predicted from the others (see the module docstring); the K refits without
+    one family each are solved together, warm-started at the full fit."""
+    K, rel, layout = fit.layout.n_families, fit.relation, fit.layout
     if K < 3:
         return FamilyRegime(skipped=f"{K} families: holding one out leaves one, so nothing is shared (needs 3 or more)")
-    rel = fit.relation
     preds = {r: np.full(x.size, np.nan) for r in ("joint", "pooled", "family_mean")}
-    for k in range(K):
-        test, train = fam == k, fam != k
-        codes = np.searchsorted(np.delete(np.arange(K), k), fam[train])
-        start = replace(fit.layout, n_families=K - 1).pack(np.delete(fit.theta, k, axis=0))
-        try:
-            refit = fit_joint(rel, x[train], y[train], codes, n_families=K - 1, shared=fit.layout.shared, start=start)
-        except FitError:
-            continue
-        typical = refit.theta.mean(axis=0)      # shared parameters are the same in every row
+    held = [np.flatnonzero(fam == k) for k in range(K)]
+    lo, hi = fit.bounds
+    U, _, _ = joint_lm(rel, layout, x, y, fam, weights=_rows_without(x.size, held), u0=fit.u, lo=lo, hi=hi)
+    pooled = fit_relation(rel, x, y)
+    pt = refit_weighted(rel, x, y, _rows_without(x.size, held), theta0=pooled.params, bounds=rel.bounds(x, y))
+    for k, test in enumerate(held):
+        typical = np.delete(layout.unpack(U[k]), k, axis=0).mean(axis=0)   # shared ones are the same in every row
         preds["joint"][test] = rel.barrier(x[test], typical)
-        preds["pooled"][test] = rel.barrier(x[test], fit_relation(rel, x[train], y[train]).params)
-        preds["family_mean"][test] = y[train].mean()
+        preds["pooled"][test] = rel.barrier(x[test], pt[k])
+        preds["family_mean"][test] = np.delete(y, test).mean()
     return _scores(y, preds, note="a held-out family takes the shared parameters and the other families' average for "
                                   "its own; its own floor and midpoint are not predictable from the others: compute a "
                                   "few of its members")

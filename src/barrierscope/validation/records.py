@@ -49,6 +49,8 @@ class RegimeRecord(Record):
     """One validation regime: every route's errors on the held-out members and the decision."""
 
     n_test: int = q.count()
+    #: how members were held out: "leave-one-out", "10-fold" (large families), "end", "clusters"
+    scheme: str = q.text()
     routes: dict[str, Metrics] = q.nested(factory=dict)
     winner: str | None = q.text(None)
     tied: list = q.texts()

@@ -33,7 +33,7 @@ from ..estimators.hybrid import out_of_fold_energy
 from ..estimators.ridge import GUARD_FLAG
 from ..estimators.two_stage import clip_energy, rows
 from ..relations import RELATIONS, get_relation
-from .splits import Split
+from .splits import Split, held_out_sets
 
 ROUTES = ("two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean")
 DESCRIPTOR_ROUTES = ("two_stage", "hybrid", "direct")
@@ -105,27 +105,33 @@ def _weights(splits: list[Split], n: int) -> np.ndarray:
     return w
 
 
-def _nested_refits(rel, x, y, trains: list[np.ndarray], *, thetas):
-    """For every split k and every training member i of it: the relation refitted to split k's
-    training members without i, warm-started at split k's own fit θ_k and kept within split
-    k's bounds. Returns (theta (rows, p), owner k per row, left-out member per row)."""
-    w_rows, starts, lows, highs, owner, left = [], [], [], [], [], []
-    for k, train in enumerate(trains):
-        lo, hi = rel.bounds(x[train], y[train])
-        base = np.zeros(x.size)
-        base[train] = 1.0
-        for i in train:
-            w = base.copy()
-            w[i] = 0.0
-            w_rows.append(w)
-        starts += [thetas[k]] * train.size
-        lows += [lo] * train.size
-        highs += [hi] * train.size
-        owner += [k] * train.size
-        left += list(train)
-    lows, highs = np.array(lows), np.array(highs)
-    theta, _, _ = lm_solve(rel, x, y, np.array(w_rows), theta0=interior(np.array(starts), lows, highs), lo=lows, hi=highs)
-    return theta, np.array(owner), np.array(left)
+#: Elements of the nested refits' weight matrix solved at once (a memory bound; the results
+#: do not depend on it: every refit is its own problem).
+_NESTED_BLOCK = 2_000_000
+
+
+def _nested_refits(rel, x, y, trains: list[np.ndarray], *, thetas, random_state: int = 0) -> list[np.ndarray]:
+    """For every split k: each training member's parameters from the relation refitted to split
+    k's training members without it (without its inner fold above ``LOO_MAX`` members),
+    warm-started at split k's own fit θ_k and kept within split k's bounds. Returns, per split,
+    an array (train.size, p) aligned with ``trains[k]``. The refits are solved in blocks of
+    :data:`_NESTED_BLOCK` weights (each refit is its own problem: the blocks change nothing)."""
+    out = [np.empty((t.size, rel.n_params)) for t in trains]
+    jobs = [(k, held, rel.bounds(x[t], y[t])) for k, t in enumerate(trains)
+            for held in held_out_sets(t.size, random_state)]
+    step = max(1, _NESTED_BLOCK // max(1, x.size))
+    for s0 in range(0, len(jobs), step):
+        batch = jobs[s0:s0 + step]
+        w = np.zeros((len(batch), x.size))
+        for r, (k, held, _) in enumerate(batch):
+            w[r, trains[k]] = 1.0
+            w[r, trains[k][held]] = 0.0
+        lows, highs = np.array([b[2][0] for b in batch]), np.array([b[2][1] for b in batch])
+        starts = interior(np.array([thetas[k] for k, _, _ in batch]), lows, highs)
+        theta, _, _ = lm_solve(rel, x, y, w, theta0=starts, lo=lows, hi=highs)
+        for r, (k, held, _) in enumerate(batch):
+            out[k][held] = theta[r]
+    return out
 
 
 def _choose_relations(x, y, trains: list[np.ndarray]) -> list[str]:
@@ -140,9 +146,9 @@ def _choose_relations(x, y, trains: list[np.ndarray]) -> list[str]:
         if min(t.size for t in trains) < rel.n_params + 2:
             continue
         base = fit_subsets(rel, x, y, w).theta
-        theta, owner, left = _nested_refits(rel, x, y, trains, thetas=base)
-        err = rel.barrier(x[left][:, None], theta)[:, 0] - y[left]
-        scores[name] = np.sqrt(np.bincount(owner, err * err) / np.bincount(owner))
+        nested = _nested_refits(rel, x, y, trains, thetas=base)
+        scores[name] = np.array([np.sqrt(np.mean((rel.barrier(x[t][:, None], th)[:, 0] - y[t]) ** 2))
+                                 for t, th in zip(trains, nested)])
     names = list(scores)
     table = np.column_stack([scores[k] for k in names])
     return [names[j] for j in np.argmin(np.where(np.isfinite(table), table, np.inf), axis=1)]
@@ -171,7 +177,7 @@ def fold_curves(relation: str, energy, barrier, splits: list[Split]) -> FoldCurv
     return out
 
 
-def _nested_curve_barriers(curves: FoldCurves, x, y, splits, *, e_oof) -> list[np.ndarray]:
+def _nested_curve_barriers(curves: FoldCurves, x, y, splits, e_oof) -> list[np.ndarray]:
     """Per split, each training member's barrier from the split's curve refitted without it,
     fed its out-of-fold energy. All nested refits of one relation are solved together."""
     out: list = [None] * len(splits)
@@ -179,10 +185,9 @@ def _nested_curve_barriers(curves: FoldCurves, x, y, splits, *, e_oof) -> list[n
     for name in dict.fromkeys(names):
         group = [k for k in range(len(splits)) if names[k] == name]
         rel = curves.relations[group[0]]
-        theta, owner, _ = _nested_refits(rel, x, y, [splits[k].train for k in group],
-                                         thetas=[curves.theta[k] for k in group])
+        nested = _nested_refits(rel, x, y, [splits[k].train for k in group], thetas=[curves.theta[k] for k in group])
         for j, k in enumerate(group):
-            out[k] = rel.barrier(np.asarray(e_oof[k], dtype=float)[:, None], theta[owner == j])[:, 0]
+            out[k] = rel.barrier(np.asarray(e_oof[k], dtype=float)[:, None], nested[j])[:, 0]
     return out
 
 

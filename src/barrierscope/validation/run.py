@@ -17,9 +17,12 @@ from ..estimators.preprocess import Preprocessor
 from .metrics import beats, metrics, paired_comparison
 from .records import MembersTable, RegimeRecord, ValidationRecord
 from .routes import ROUTES, out_of_fold
-from .splits import REGIMES, regimes
+from .splits import REGIMES, loo_scheme, regimes
 from .verdict import decide
 from .yrandom import y_randomization
+
+#: How each regime holds members out (leave-one-out's depends on the family's size).
+SCHEMES = {"downhill": "end", "uphill": "end", "clusters": "clusters"}
 
 #: Learners whose every refit runs a hyper-parameter search (or grows a forest): their
 #: y-randomisation keeps at most this many shuffles, and says so.
@@ -49,10 +52,10 @@ def standardised(X) -> np.ndarray | None:
     return Preprocessor.fit(A, [str(c) for c in range(A.shape[1])]).transform(A)
 
 
-def _regime_record(oof, energy, barrier, ids, *, random_state) -> RegimeRecord:
+def _regime_record(oof, energy, barrier, ids, *, random_state, scheme: str) -> RegimeRecord:
     routes = {r: metrics(barrier, oof.pred[r], oof.low[r], oof.high[r]) for r in ROUTES if r in oof.pred}
     decision = decide({r: oof.pred[r] - barrier for r in oof.pred}, ids, random_state)
-    return RegimeRecord(n_test=int(oof.tested.sum()), routes=routes, winner=decision["winner"],
+    return RegimeRecord(n_test=int(oof.tested.sum()), scheme=scheme, routes=routes, winner=decision["winner"],
                         tied=decision["tied"], leader_beats=decision["leader_beats"],
                         beats_mean=decision["beats_mean"], misses=decision["misses"], pairs=decision["pairs"],
                         energy_stage=None if oof.energy is None else metrics(energy, oof.energy),
@@ -110,7 +113,8 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
             regimes_out[name] = RegimeRecord(skipped=regime.skipped)
             continue
         oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, designs=designs, **kw)
-        regimes_out[name] = _regime_record(oof, energy, barrier, ids, random_state=opts.random_state)
+        regimes_out[name] = _regime_record(oof, energy, barrier, ids, random_state=opts.random_state,
+                                           scheme=SCHEMES.get(name, name) if name != "loo" else loo_scheme(energy.size))
         capped, fits = capped + oof.optimizer_capped, fits + oof.fits
         if name == "loo":
             loo = oof

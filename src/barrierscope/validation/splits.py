@@ -12,6 +12,12 @@ Sizes (our choice, stated in the README): the end splits need n ≥ 12, so that 
 members are held out and at least 9 remain to fit a three-parameter curve and an energy
 stage; leave-cluster-out needs n ≥ 18, so that there are at least 3 clusters and every fold
 keeps about two thirds of the family. A regime that cannot run says why.
+
+Above :data:`LOO_MAX` members, leave-one-out becomes :data:`KFOLD`-fold cross-validation
+(shuffled, reproducible), and so do the refits nested inside each split: every member is
+still predicted once by models that never saw it, at a cost that grows about linearly with
+the family instead of with its cube (measured in ``benchmarks/bench_scale.py``; the tables
+and the verdict say which was run).
 """
 
 from __future__ import annotations
@@ -22,6 +28,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 REGIMES = ("loo", "downhill", "uphill", "clusters")
+#: Most members validated by leave-one-out; above, K-fold cross-validation (see the module docstring).
+LOO_MAX = 200
+KFOLD = 10
 END_FRACTION = 0.25
 MIN_FOR_ENDS = 12
 MIN_FOR_CLUSTERS = 18
@@ -43,9 +52,24 @@ class Regime:
     skipped: str = ""                     # why the regime did not run (empty when it did)
 
 
-def loo_splits(n: int) -> list[Split]:
+def held_out_sets(n: int, random_state: int = 0, single_up_to: int = LOO_MAX, k: int = KFOLD) -> list[np.ndarray]:
+    """Index sets each held out once: one member each for n ≤ ``single_up_to``, else ``k``
+    shuffled folds (reproducible for a given ``random_state``)."""
+    if n <= single_up_to:
+        return [np.array([i]) for i in range(n)]
+    order = np.random.default_rng(random_state).permutation(n)
+    return [np.sort(f) for f in np.array_split(order, k)]
+
+
+def loo_splits(n: int, random_state: int = 0) -> list[Split]:
+    """Leave-one-out splits, or K-fold above :data:`LOO_MAX` members."""
     idx = np.arange(n)
-    return [Split(np.delete(idx, i), np.array([i])) for i in range(n)]
+    return [Split(np.setdiff1d(idx, held), held) for held in held_out_sets(n, random_state)]
+
+
+def loo_scheme(n: int) -> str:
+    """How the ``loo`` regime holds members out for a family of n: 'leave-one-out' or 'K-fold'."""
+    return "leave-one-out" if n <= LOO_MAX else f"{KFOLD}-fold"
 
 
 def end_split(energy, side: str, fraction: float = END_FRACTION) -> Split:
@@ -102,7 +126,7 @@ def regimes(energy, Z: np.ndarray | None, random_state: int = 0, which=REGIMES) 
     out: dict[str, Regime] = {}
     for name in which:
         if name == "loo":
-            out[name] = Regime(name, loo_splits(n))
+            out[name] = Regime(name, loo_splits(n, random_state))
         elif name in ("downhill", "uphill"):
             out[name] = (Regime(name, [end_split(energy, name)]) if n >= MIN_FOR_ENDS else
                          Regime(name, skipped=f"needs at least {MIN_FOR_ENDS} members ({n} here)"))

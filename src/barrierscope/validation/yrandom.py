@@ -33,7 +33,7 @@ def y_randomization(X, energy, barrier, learner: str, *, relation: str, n_shuffl
     rng = np.random.default_rng(random_state)
     energy = np.asarray(energy, dtype=float)
     barrier = np.asarray(barrier, dtype=float)
-    splits = loo_splits(energy.size)
+    splits = loo_splits(energy.size, random_state)
     maes: dict[str, list[float]] = {"two_stage": [], "direct": []}
     for _ in range(n_shuffles):
         perm = rng.permutation(energy.size)

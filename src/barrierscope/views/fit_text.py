@@ -14,6 +14,12 @@ SHORT = {"two_stage": "two-stage", "hybrid": "hybrid", "direct": "black box", "c
 REGIME_LABELS = {"loo": "leave-one-out", "downhill": "downhill", "uphill": "uphill", "clusters": "clusters"}
 
 
+def regime_label(name: str, regime: dict) -> str:
+    """The regime's short name; a large family's ``loo`` regime is K-fold cross-validation."""
+    scheme = regime.get("scheme") or ""
+    return f"{scheme} CV" if name == "loo" and scheme.endswith("-fold") else REGIME_LABELS.get(name, name)
+
+
 def _cell(m: dict | None, key: str, fmt: str = ".3g") -> str:
     if not m or m.get(key) is None:
         return "—"
@@ -22,7 +28,7 @@ def _cell(m: dict | None, key: str, fmt: str = ".3g") -> str:
 
 def regime_table(record: dict) -> list[str]:
     regimes = {k: v for k, v in record["validation"].items()}
-    head = f"{'':<28}" + "".join(f"{REGIME_LABELS[k] + (' (' + str(v['n_test']) + ')' if v['n_test'] else ''):>20}"
+    head = f"{'':<28}" + "".join(f"{regime_label(k, v) + (' (' + str(v['n_test']) + ')' if v['n_test'] else ''):>20}"
                                  for k, v in regimes.items())
     sub = f"{'':<28}" + "".join(f"{'MAE':>7}{'RMSE':>7}{'cover':>6}" for _ in regimes)
     lines = [head, sub, "-" * len(sub)]
@@ -36,7 +42,7 @@ def regime_table(record: dict) -> list[str]:
             lines.append(f"{label:<28}" + "".join(cells))
     lines += _jackknife_rows(regimes)
     lines.append(f"{'winner':<28}" + "".join(f"{str(v.get('winner') or 'not run'):>20}" for v in regimes.values()))
-    skipped = [f"{REGIME_LABELS[k]}: {v['skipped']}" for k, v in regimes.items() if v.get("skipped")]
+    skipped = [f"{regime_label(k, v)}: {v['skipped']}" for k, v in regimes.items() if v.get("skipped")]
     if skipped:
         lines.append("not run — " + "; ".join(skipped))
     return lines

@@ -19,7 +19,7 @@ from . import depict
 from . import figures as fg
 from .cautions import CAUTION
 from .curve_text import KINDS, identifiability_text
-from .fit_text import REGIME_LABELS, ROUTE_LABELS
+from .fit_text import ROUTE_LABELS, regime_label
 from .html import STYLE, esc, figure, num, table
 from .report_extra import families_section, hammett_section
 from .units import in_unit, to_unit
@@ -28,7 +28,7 @@ from .verdict import verdict_text
 
 def _validation(rec: dict, unit: str) -> str:
     regimes = rec["validation"]
-    head = ["route"] + [f"{REGIME_LABELS[k]}{' (' + str(v['n_test']) + ')' if v['n_test'] else ''}<br>MAE · RMSE · "
+    head = ["route"] + [f"{regime_label(k, v)}{' (' + str(v['n_test']) + ')' if v['n_test'] else ''}<br>MAE · RMSE · "
                         f"cover" for k, v in regimes.items()]
     rows = []
     for key, label in [("energy_stage", "energy stage (reaction energy)"), *ROUTE_LABELS.items()]:

@@ -6,6 +6,8 @@ Takes a validation record already in the user's unit (:func:`.units.in_unit`).
 
 from __future__ import annotations
 
+from ..validation.splits import LOO_MAX
+
 NAMES = {"two_stage": "two-stage", "hybrid": "hybrid", "direct": "black box", "family_mean": "family mean",
          "curve_on_true_energy": "curve on the true reaction energy"}
 REGIME_NAMES = {"loo": "Leave-one-out (interpolation)",
@@ -41,6 +43,9 @@ def _misses_text(regime: dict, unit: str) -> str:
 def regime_sentence(name: str, regime: dict, unit: str) -> str:
     """One regime in one or two sentences."""
     title = REGIME_NAMES.get(name, name)
+    if name == "loo" and str(regime.get("scheme", "")).endswith("-fold"):
+        title = (f"{regime['scheme']} cross-validation (interpolation; leave-one-out above {LOO_MAX} members would "
+                 f"refit every route once per member)")
     if regime.get("skipped"):
         return f"{title}: not run — {regime['skipped']}."
     routes, winner = regime["routes"], regime["winner"]
