@@ -233,3 +233,25 @@ def test_a_joint_fit_keeps_its_bounds_through_a_model_file():
     first, second = (joint_profile_intervals(f, x, y, family_codes(lab)[0]) for f in (fit, again))
     assert all(first[i].low == pytest.approx(second[i].low) and first[i].high == pytest.approx(second[i].high)
                for i in first)
+
+
+def test_batched_joint_refits_equal_one_at_a_time_refits():
+    # The block-structured solver (many joint problems at once, steps by the Schur complement of the
+    # family blocks) must land where scipy's least_squares lands refitting one problem at a time.
+    from barrierscope.curves.joint import fit_joint
+    from barrierscope.curves.joint_batch import joint_lm
+
+    x, y, lab = invented(3)
+    _, fit, fam, _ = joint_record(x, y, lab, validate=False)
+    lo, hi = fit.bounds
+    drop = [0, 11, 25, 40, 57]
+    w = np.ones((len(drop), x.size))
+    w[np.arange(len(drop)), drop] = 0.0
+    U, cost, converged = joint_lm(fit.relation, fit.layout, x, y, fam, weights=w, u0=fit.u, lo=lo, hi=hi)
+    assert converged.all()
+    for r, i in enumerate(drop):
+        keep = np.arange(x.size) != i
+        ref = fit_joint(fit.relation, x[keep], y[keep], fam[keep], n_families=fit.layout.n_families,
+                        shared=fit.layout.shared, start=fit.u)
+        assert cost[r] == pytest.approx(ref.rss, rel=1e-7)
+        assert np.allclose(U[r], ref.u, atol=1e-4)
