@@ -187,3 +187,34 @@ def test_rdkit_logging_is_blocked_per_call_and_left_as_it_was():
 
     resolve_structures(pd.DataFrame({"_row": [1, 2], "m": ["C1CC(", "CCO"]}), make_spec(molecule="m"))
     assert rdBase.LogStatus() == before and "rdApp.error:enabled" in before
+
+
+def test_core_mode_reads_library_molecules_fast_and_the_same_as_the_full_path():
+    # Molecules that are the core as written with valid substituents are read without sanitising
+    # them whole; everything else goes the full way. Both must give the same keys and the same
+    # errors (the cases below: invented edge cases, each hand-checked).
+    from barrierscope.structures.core import CoreDecomposer
+
+    core = "n1cc([*:1])c([*:2])c([*:3])c1"
+    d = CoreDecomposer(core)
+    cases = {
+        # R2 is para to the ring N (here the C2F5 group); R1 and R3 are the two meta positions, which the
+        # core's symmetry lets swap: the smaller reading wins.
+        "Cc1cncc(Oc2ccccc2)c1C(F)(F)C(F)(F)F": ("*C", "*C(F)(F)C(F)(F)F", "*Oc1ccccc1"),
+        "n1cc(C)c(Cl)c(c2ccccc2)c1": ("*C", "*Cl", "*c1ccccc1"),
+        "n1cc(C)c(N(=O)=O)c(C)c1": ("*C", "*[N+](=O)[O-]", "*C"),       # nitro normalised either way
+        "N1=CC(C)=C(C)C(C)=C1": ("*C", "*C", "*C"),                     # Kekulé input: the full path
+        "n1cc([C@H](F)Cl)c(C)c(C)c1": ("*C", "*C", "*[C@H](F)Cl"),      # stereo kept; meta positions swap
+    }
+    for smiles, keys in cases.items():
+        assert d.decompose_smiles(smiles) == keys, smiles
+    assert d._as_assembled("n1cc(C)c(C)c(C)c1", 200) is not None          # the fast path was taken
+    assert d._as_assembled("N1=CC(C)=C(C)C(C)=C1", 200) is None           # (Kekulé: not the core as written)
+    for smiles, kind in {"[nH]1cc(C)c(C)c(C)c1": "unparseable",            # cannot be kekulised
+                         "n1cc(c2ccccc2)c(c2cccc2)c(C)c1": "unparseable",  # a five-ring written aromatic
+                         "n1cc(C)c(=O)c(C)c1": "unparseable",
+                         "n1cc(C)c2c(c1)CCCC2": "core_bridged",
+                         "n1cc(C)c(C)c(C)c1.O": "multiple_components"}.items():
+        with pytest.raises(StructureError) as err:
+            d.decompose_smiles(smiles)
+        assert err.value.kind == kind, smiles

@@ -15,7 +15,6 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import optimize
 
 from ..relations.base import Relation
 from .batch import interior, lm_solve
@@ -110,6 +109,8 @@ def _robust_sigma2(residuals: np.ndarray, dof: int, loss: str) -> float:
 
 
 def _least_squares(relation, x, y, start, *, lo, hi, loss, f_scale, max_nfev):
+    from scipy import optimize  # loaded when a fit runs, not when a model predicts
+
     return optimize.least_squares(lambda t: relation.barrier(x, t) - y, interior(start, lo, hi),
                                   jac=lambda t: relation.jacobian(x, t), bounds=(lo, hi), loss=loss,
                                   f_scale=f_scale, method="trf", x_scale="jac", xtol=1e-10, ftol=1e-10,

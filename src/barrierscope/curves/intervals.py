@@ -15,7 +15,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import optimize, special
+from scipy import special
 
 from .batch import interior, refit_weighted
 from .fit import RelationFit, check_pairs
@@ -71,6 +71,8 @@ class _Profile:
         return theta
 
     def rss(self, value: float, theta_start) -> tuple[float, np.ndarray]:
+        from scipy import optimize  # loaded when a fit runs, not when a model predicts
+
         res = optimize.least_squares(
             lambda s: self.rel.barrier(self.x, self._full(value, s)) - self.y,
             interior(np.asarray(theta_start, dtype=float)[self.free], self.lo, self.hi),
@@ -85,6 +87,8 @@ def profile_end(prof, start, g_cut, u_hat: float, *, edge: float, step: float, d
     ``prof.rss(value, start)`` gives the minimised RSS at the profiled value and the full
     parameter vector there; ``start`` is the full vector at the optimum; ``inv`` maps the
     search coordinate back to the parameter."""
+    from scipy import optimize  # loaded when a fit runs, not when a model predicts
+
     theta_prev, inside_u = np.array(start, dtype=float), u_hat
     found = None
     while True:

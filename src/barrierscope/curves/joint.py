@@ -21,7 +21,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import optimize, special
+from scipy import special
 
 from ..relations.base import Relation
 from .batch import interior
@@ -196,6 +196,8 @@ def separate_fits(rel: Relation, x, y, fam, *, n_families: int) -> list:
 
 def _solve(rel, layout, x, y, *, fam, start, lo, hi, fixed: dict | None = None):
     """least_squares on the joint vector, optionally with some coordinates held fixed."""
+    from scipy import optimize  # loaded when a fit runs, not when a model predicts
+
     fixed = fixed or {}
     free = np.array([i for i in range(layout.size) if i not in fixed])
     base = np.asarray(start, dtype=float).copy()

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import functools
 import re
+import threading
 
 from rdkit import Chem, rdBase
 
@@ -25,17 +26,36 @@ class StructureError(ValueError):
         self.kind = kind
 
 
-def quiet_rdkit():
+_scope = threading.local()
+
+
+class quiet_rdkit:
     """A scope (``with quiet_rdkit(): ...``) in which RDKit's own stderr chatter is blocked:
     barrierscope reports problems per row instead. RDKit's logging is back as it was when the
-    scope ends (``rdBase.BlockLogs``), so a notebook that imports barrierscope keeps its logs."""
-    return rdBase.BlockLogs()
+    scope ends (``rdBase.BlockLogs``), so a notebook that imports barrierscope keeps its logs.
+    Scopes nest: only the outermost blocks and restores (a library's rows parsed inside one
+    scope do not pay for one each)."""
+
+    def __enter__(self):
+        depth = getattr(_scope, "depth", 0)
+        if depth == 0:
+            _scope.block = rdBase.BlockLogs()
+        _scope.depth = depth + 1
+        return self
+
+    def __exit__(self, *exc):
+        _scope.depth -= 1
+        if _scope.depth == 0:
+            del _scope.block         # RDKit restores its logging when the blocker goes
+        return False
 
 
 def quietly(fn):
-    """``fn`` run inside :func:`quiet_rdkit`."""
+    """``fn`` run inside :func:`quiet_rdkit` (a direct call when a scope is already open)."""
     @functools.wraps(fn)
     def wrapper(*args, **kwargs):
+        if getattr(_scope, "depth", 0):
+            return fn(*args, **kwargs)
         with quiet_rdkit():
             return fn(*args, **kwargs)
 
@@ -57,9 +77,9 @@ def parse_smiles(text: str, what: str = "SMILES", cleanup: bool = True) -> Chem.
     if text is None:
         raise StructureError(f"empty {what}", "empty")
     s = str(text).strip()
-    if not s or s.lower() in ("nan", "none", "null"):
+    if len(s) < 5 and (not s or s.lower() in ("nan", "none", "null")):
         raise StructureError(f"empty {what}", "empty")
-    if _SPACE.search(s):
+    if " " in s or _SPACE.search(s):
         raise StructureError(f"{what} {s!r} contains white space", "unparseable")
     mol = Chem.MolFromSmiles(s, sanitize=False)
     if mol is None:

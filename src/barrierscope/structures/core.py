@@ -17,13 +17,13 @@ order, sorts first is taken, so the result does not depend on how the SMILES was
 from __future__ import annotations
 
 import re
-from itertools import accumulate
 
 from rdkit import Chem
 
 from .checks import (
     DEFAULT_MAX_HEAVY_ATOMS,
     StructureError,
+    _bracket_elements_ok,
     check_elements_and_size,
     parse_smiles,
     quietly,
@@ -81,6 +81,10 @@ class CoreDecomposer:
             self._labels_at.setdefault(old_to_new[anchor_old[n]], []).append(p)
         self._raw_to_key: dict[str, str] = {}
         self._query_degree = [a.GetDegree() for a in self.query.GetAtoms()]
+        # What each core atom is as written (for molecules read without sanitising them whole).
+        self._template = [(a.GetFormalCharge(), a.GetIsotope(), a.GetNumExplicitHs(), a.GetNoImplicit(),
+                           a.GetIsAromatic()) for a in self.query.GetAtoms()]
+        self._plain_core = all(t[:4] == (0, 0, 0, False) for t in self._template)
         # One position per labelled core atom (no geminal pair): the common case, assigned fast.
         self._anchor_per_position = ([q for p in range(len(self.numbers)) for q, ps in self._labels_at.items()
                                       if p in ps] if all(len(v) == 1 for v in self._labels_at.values()) else None)
@@ -90,11 +94,63 @@ class CoreDecomposer:
 
     # -- per molecule -------------------------------------------------------------------
     def decompose_smiles(self, text: str, max_heavy_atoms: int = DEFAULT_MAX_HEAVY_ATOMS) -> tuple[str, ...]:
-        """Canonical substituent keys of the molecule written as ``text``."""
+        """Canonical substituent keys of the molecule written as ``text``.
+
+        Most library molecules are the core, written as the core is, with substituents on its
+        numbered atoms: for them (:meth:`_as_assembled`) the molecule is not sanitised whole —
+        each distinct substituent is, once, when its key is made, and the core matched is the
+        valid core itself — which makes a core-mode screen about twice as fast. Every other
+        molecule, and any doubt, takes the full path: parse, sanitise, decompose."""
+        keys = self._as_assembled(text, max_heavy_atoms)
+        if keys is not None:
+            return keys
         mol = parse_smiles(text, "SMILES", cleanup=False)
+        if "." in text and len(Chem.GetMolFrags(mol)) > 1:
+            raise StructureError("several molecules in one cell (a '.' in the SMILES): the core is cut out of one",
+                                 "multiple_components")
         if "[" in text or mol.GetNumHeavyAtoms() > max_heavy_atoms:
             check_elements_and_size(mol, max_heavy_atoms, text=text)  # only bracket atoms can be exotic
         return self.decompose(mol, text.strip())
+
+    def _as_assembled(self, text, max_heavy_atoms: int) -> tuple[str, ...] | None:
+        """The keys of a molecule that is provably the valid core with valid substituents
+        attached by single bonds at its numbered atoms, read without sanitising the whole
+        molecule; None (take the full path) for anything else. Proven by: valences checked
+        (RDKit's property cache, strictly); the core matched as written — every core atom
+        with the core's own charge, isotope and hydrogens, so the matched ring is the core's
+        valid one; one place of the core; substituents read off the text (no graph cutting)
+        and each made a key by full sanitisation. A substituent joined to the core by a ring
+        bond, or anything unusual, falls back."""
+        s = text.strip() if isinstance(text, str) else ""
+        if (len(s) < 5 or "." in s or _EXPLICIT_H_TEXT.search(s) or _SPACE_TEXT.search(s)
+                or ("[" in s and not _bracket_elements_ok(s))):
+            return None
+        mol = Chem.MolFromSmiles(s, sanitize=False)
+        if mol is None or mol.GetNumHeavyAtoms() > max_heavy_atoms:
+            return None
+        try:
+            mol.UpdatePropertyCache(strict=True)
+        except Exception:  # a valence problem: the full path says which
+            return None
+        Chem.FastFindRings(mol)
+        matches = mol.GetSubstructMatches(self.query, uniquify=False, useChirality=False, maxMatches=10000)
+        if not matches or len({frozenset(m) for m in matches}) != 1:
+            return None
+        # Written without brackets, every core atom is neutral, unlabelled and without explicit H,
+        # and the match itself has held its element, aromaticity and bonds to the core's.
+        if "[" in s or not self._plain_core:
+            for q, a in enumerate(matches[0]):
+                atom = mol.GetAtomWithIdx(a)
+                if (atom.GetFormalCharge(), atom.GetIsotope(), atom.GetNumExplicitHs(), atom.GetNoImplicit(),
+                        atom.GetIsAromatic()) != self._template[q]:
+                    return None
+        fragments = _TextFragments.read(s, mol)
+        if fragments is None:
+            return None
+        try:
+            return self._read_place(mol, s, matches, fragments=fragments, text_only=True)
+        except StructureError:
+            return None
 
     def decompose(self, mol: Chem.Mol, text: str | None = None) -> tuple[str, ...]:
         """Canonical substituent keys, one per position, or :class:`StructureError`.
@@ -126,8 +182,11 @@ class CoreDecomposer:
             raise failure
         return readings.pop()
 
-    def _read_place(self, mol: Chem.Mol, text: str | None, matches) -> tuple[str, ...]:
-        """The keys read at one place of the core (its matches differ by the core's symmetry)."""
+    def _read_place(self, mol: Chem.Mol, text: str | None, matches, *, fragments=None,
+                    text_only: bool = False) -> tuple[str, ...]:
+        """The keys read at one place of the core (its matches differ by the core's symmetry);
+        ``fragments`` already read off the text; ``text_only``: a bond the text cannot give is
+        a :class:`StructureError` rather than a cut of the graph."""
         first = matches[0]
         # Attachments (core atom, first substituent atom) do not depend on which match is used.
         core_atoms = None
@@ -141,13 +200,18 @@ class CoreDecomposer:
             attachments[a] = [nb.GetIdx() for nb in atom.GetNeighbors() if nb.GetIdx() not in core_atoms]
         keys_at: dict[int, list[str]] = {}
         if attachments:
-            fragments = _TextFragments.read(text, mol) if text else None
+            if fragments is None:
+                fragments = _TextFragments.read(text, mol) if text else None
+            rings = mol.GetRingInfo()      # (asking the ring info is much faster than Bond.IsInRing)
             for a, starts in attachments.items():
                 found = []
                 for s in starts:
-                    if mol.GetBondBetweenAtoms(a, s).IsInRing():
+                    bond = mol.GetBondBetweenAtoms(a, s)
+                    if rings.NumBondRings(bond.GetIdx()):
                         raise StructureError("a substituent is joined to the core in two places "
                                              "(a ring across positions)", "core_bridged")
+                    if text_only and bond.GetBondType() not in _SINGLE_LIKE:
+                        raise StructureError("not a single bond to the core", "core_cut")
                     raw = fragments.raw(a, s) if fragments is not None else None
                     found.append(self._key_from_text(raw) if raw is not None
                                  else self._key_from_graph(mol, a, s, core_atoms))
@@ -167,9 +231,9 @@ class CoreDecomposer:
         an unlabelled core atom."""
         if self._anchor_per_position is not None:
             anchors = [match[q] for q in self._anchor_per_position]
-            if any(a not in anchors or len(v) > 1 for a, v in keys_at.items()):
+            if not all(len(v) == 1 and a in anchors for a, v in keys_at.items()):
                 return None
-            return tuple(keys_at[a][0] if a in keys_at else HYDROGEN_KEY for a in anchors)
+            return tuple([keys_at[a][0] if a in keys_at else HYDROGEN_KEY for a in anchors])
         keys = [HYDROGEN_KEY] * len(self.numbers)
         used = 0
         for q, labels in self._labels_at.items():
@@ -215,9 +279,32 @@ class CoreDecomposer:
         return key
 
 
-_TOKEN = re.compile(r"\[[^\]]*\]|Br|Cl|%\d\d|[BCNOPSFIbcnops*]|[-=#$:/\\]|\d|[()]|.")
-_ORGANIC = frozenset("B C N O P S F I Br Cl b c n o p s *".split())
-_BONDS = frozenset("-=#$:/\\")
+#: Bonds to the core a molecule read unsanitised may show: single, or written between two
+#: aromatic atoms outside a ring (single once sanitised).
+_SINGLE_LIKE = (Chem.BondType.SINGLE, Chem.BondType.AROMATIC)
+_EXPLICIT_H_TEXT = re.compile(r"\[\d*H[^a-z]")
+_SPACE_TEXT = re.compile(r"\s")
+
+#: An atom of a SMILES string: a bracket atom or one of the organic subset (two-letter first).
+_ATOM = re.compile(r"\[[^\]]*\]|Br|Cl|[BCNOPSFIbcnops*]")
+_BOND_CHARS = frozenset("-=#$:/\\")
+
+
+def _branch_end(text: str, start: int) -> int:
+    """Offset of the ")" that closes the innermost branch open at ``start`` (or the end of
+    ``text``), nested branches after ``start`` skipped. Jumps from parenthesis to parenthesis."""
+    depth, i = 0, start
+    while True:
+        close = text.find(")", i)
+        if close < 0:
+            return len(text)
+        open_ = text.find("(", i, close)
+        if open_ >= 0:
+            depth, i = depth + 1, open_ + 1
+        elif depth == 0:
+            return close
+        else:
+            depth, i = depth - 1, close + 1
 
 
 class _TextFragments:
@@ -231,44 +318,31 @@ class _TextFragments:
     replaced by ``*``. Either way the result is a SMILES of the substituent with its
     attachment as ``*`` — exact, though not canonical; it is canonicalised once per
     distinct text. Strings this reader cannot map atom-for-atom (explicit hydrogens that
-    RDKit removes, several components) fall back to cutting the graph.
+    RDKit removes, several components) fall back to cutting the graph. Offsets come from one
+    regular-expression pass; branch ends are found by jumping between parentheses.
     """
 
-    def __init__(self, text: str, tokens: list[str], atom_token: list[int]):
+    __slots__ = ("text", "starts")
+
+    def __init__(self, text: str, starts: list[int]):
         self.text = text
-        self.tokens = tokens
-        self.atom_token = atom_token
-        # Character offset of every token (and of the end), so fragments are slices of the text.
-        self.offset = [0, *accumulate(map(len, tokens))]
-        # For every token, the index of the ")" closing the innermost branch open there (or the
-        # end): one pass instead of a scan per fragment.
-        close = [len(tokens)] * len(tokens)
-        stack: list[int] = []
-        owner = [-1] * len(tokens)
-        for i, t in enumerate(tokens):
-            owner[i] = stack[-1] if stack else -1
-            if t == "(":
-                stack.append(i)
-            elif t == ")" and stack:
-                close[stack.pop()] = i
-        self.branch_end = [close[o] if o >= 0 else len(tokens) for o in owner]
+        self.starts = starts      # character offset of every atom, in RDKit's atom order
 
     @classmethod
     def read(cls, text: str, mol: Chem.Mol) -> "_TextFragments | None":
-        tokens = _TOKEN.findall(text)
-        atom_token = [i for i, t in enumerate(tokens) if t in _ORGANIC or t[0] == "["]
-        if "." in tokens or len(atom_token) != mol.GetNumAtoms():
+        starts = [m.start() for m in _ATOM.finditer(text)]
+        if "." in text or len(starts) != mol.GetNumAtoms():
             return None
-        return cls(text, tokens, atom_token)
+        return cls(text, starts)
 
     def raw(self, a: int, s: int) -> str:
-        toks, off, text = self.tokens, self.offset, self.text
+        text = self.text
         if s > a:
-            start = self.atom_token[s]
-            first = start - 1 if start > 0 and toks[start - 1] in _BONDS else start
-            return "*" + text[off[first]:off[self.branch_end[start]]]
-        start = self.atom_token[a]
-        return text[:off[start]] + "*" + text[off[self.branch_end[start]]:]
+            start = self.starts[s]
+            first = start - 1 if start > 0 and text[start - 1] in _BOND_CHARS else start
+            return "*" + text[first:_branch_end(text, start)]
+        start = self.starts[a]
+        return text[:start] + "*" + text[_branch_end(text, start):]
 
 
 def _fragment_key(mol: Chem.Mol, anchor: int, atoms: set[int]) -> str:
