@@ -72,7 +72,7 @@ def test_extra_descriptors_only(family_csv, tmp_path):
 
 
 @pytest.mark.parametrize("args,needle", [
-    (["--learner", "svm"], "valid choices: ridge, pls, gp, forest"),
+    (["--learner", "svm"], "valid choices: auto, ridge, pls, gp, forest"),
     (["--relation", "cubic"], "valid choices"),
     (["--tiers", "2d,psychic"], "valid choices"),
     (["--units", "calories"], "valid choices"),

@@ -90,7 +90,7 @@ def test_gp_matches_scikit_learn():
 def test_scikit_learn_conventions():
     reg = DescriptorRegressor("pls", random_state=3)
     assert clone(reg).get_params() == {"learner": "pls", "random_state": 3, "effort": "full"}
-    with pytest.raises(ValueError, match="valid choices: ridge, pls, gp, forest"):
+    with pytest.raises(ValueError, match="valid choices: auto, ridge, pls, gp, forest"):
         DescriptorRegressor("svm").fit(*invented(n=10)[:2])
 
 

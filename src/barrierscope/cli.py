@@ -202,7 +202,9 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
         substituents: Optional[str] = SUBSTITUENTS, molecule: Optional[str] = MOLECULE, core: Optional[str] = CORE,
         reaction: Optional[str] = REACTION, template: Optional[str] = TEMPLATE, multiplicity: Optional[str] = MULT,
         tiers: str = TIERS,
-        learner: str = typer.Option("ridge", "--learner", help="ridge, pls, gp or forest."),
+        learner: str = typer.Option("auto", "--learner", help="auto (ridge or a Gaussian process, chosen per family "
+                                                              "and inside every validation split), ridge, pls, gp "
+                                                              "or forest."),
         relation: str = typer.Option("asymptotic", "--relation", help="A relation (asymptotic, linear, marcus, "
                                                                       "agmon_levine, rehm_weller, blowers_masel) or auto."),
         units: str = UNITS, kind: str = KIND,

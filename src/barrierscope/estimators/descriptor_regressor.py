@@ -29,7 +29,9 @@ def _plain(v):
 class DescriptorRegressor(RegressorProtocol):
     """Parameters
     ----------
-    learner : {"ridge", "pls", "gp", "forest"}
+    learner : {"auto", "ridge", "pls", "gp", "forest"}
+        ``"auto"`` fits ridge and a Gaussian process and keeps the one with the lower exact
+        leave-one-out error (``state_["auto"]`` says which, and why).
     random_state : int
     effort : {"full", "refit"}
         ``"refit"`` bounds the cost of a validation refit: forests of half the trees (a
@@ -66,7 +68,7 @@ class DescriptorRegressor(RegressorProtocol):
         cols = [str(c) for c in names] if names is not None else [f"x{j}" for j in range(A.shape[1])]
         self.preprocessor_ = Preprocessor.fit(A, cols)
         Z = self.preprocessor_.transform(A)
-        warm = getattr(warm_start, "state_", None)
+        warm = getattr(warm_start, "state_", warm_start if isinstance(warm_start, dict) else None)
         self.state_ = fit_state(learner, Z, y, self.random_state, warm=warm, effort=self.effort)
         self.n_train_ = int(y.size)
         return self
@@ -93,6 +95,12 @@ class DescriptorRegressor(RegressorProtocol):
         """How far each row's descriptor combination lies outside the training members' (0
         inside): its predictions were clipped to the training box there (see :mod:`.ridge`)."""
         return manifold_excess(self.state_, self.standardise(X))
+
+    @property
+    def chosen_learner(self) -> str:
+        """The learner that predicts: the one asked for, or ``auto``'s choice."""
+        check_fitted(self, "state_")
+        return self.state_["kind"]
 
     def loo_predictions(self, y) -> np.ndarray | None:
         """Exact leave-one-out predictions of the training targets, when available in closed

@@ -17,6 +17,13 @@ from .descriptor_regressor import DescriptorRegressor
 from .two_stage import EnergyRouteMixin, TwoStageRegressor, rows
 
 
+def correction_learner(learner: str) -> str:
+    """The learner of the hybrid's correction: the energy stage's, or ridge when that is
+    ``auto`` (the correction is a small residual; choosing its learner too would double the
+    cost of every validation split for a route judged on the same footing as the others)."""
+    return "ridge" if learner == "auto" else learner
+
+
 def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, *, fitted: DescriptorRegressor | None = None):
     """Energy-stage predictions for training members from fits that did not see them:
     exact leave-one-out for ridge (closed form), 5-fold cross-validation otherwise.
@@ -99,7 +106,8 @@ class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
         e_oof = out_of_fold_energy(D, energy, self.learner, self.random_state, fitted=self.two_stage_.energy_)
         self.oof_residuals_ = barrier - out_of_fold_barrier(self.two_stage_.curve_, energy, barrier, e_oof,
                                                             self.random_state)
-        self.correction_ = DescriptorRegressor(self.learner, self.random_state).fit(D, self.oof_residuals_)
+        self.correction_ = DescriptorRegressor(correction_learner(self.learner), self.random_state).fit(
+            D, self.oof_residuals_)
         return self
 
     def predict_parts(self, X, energy=None, two_stage_parts: dict | None = None) -> dict:

@@ -155,7 +155,7 @@ class FoldDesign:
         lev = 1.0 / self.r + np.sum((self.T * shrink[:, None, :]) ** 2, axis=2)
         excess = np.abs(np.einsum("mtk,mk->mt", self.moved, shrink * Uy)) / np.sqrt(np.maximum(s2, 1e-300))[:, None]
         return {"pred": pred, "sd": np.sqrt(s2[:, None] * (1.0 + lev)), "loo": loo_all[idx, best],
-                "excess": excess}
+                "excess": excess, "mse": mses[idx, best]}
 
 
 def fit_folds(X: np.ndarray, y: np.ndarray, train: np.ndarray, test: np.ndarray) -> dict:

@@ -16,7 +16,7 @@ from ..errors import FitRefused, InputError
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import HybridRegressor
-from ..estimators.learners import check_learner, minimum_members
+from ..estimators.learners import AUTO_GP_MAX, check_learner, minimum_members
 from ..estimators.two_stage import TwoStageRegressor
 from ..relations import RELATIONS, get_relation
 from ..units import normalize_unit, parse_energy_kind
@@ -35,7 +35,7 @@ from .options import at_least, one_of, option
 class FitOptions:
     energy_column: str
     barrier_column: str
-    learner: str = "ridge"
+    learner: str = "auto"
     relation: str = "asymptotic"
     units: str = "kcal/mol"
     energy_kind: str = "free-energy"
@@ -143,6 +143,9 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
                                                                  random_state=opts.random_state)
         notes += more_notes
         warnings += more_warnings
+    if has_x and opts.learner == "auto" and pairs.n > AUTO_GP_MAX:
+        notes.append(f"learner auto: ridge only above {AUTO_GP_MAX} members (a Gaussian process's hyper-parameter "
+                     f"search in every validation split would cost O(n³) each step)")
     checked = validate(X if has_x else None, energy, barrier, pairs.ids,
                        opts=ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
                                          opts.regimes))
@@ -163,7 +166,9 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
     fields = {f: getattr(checked, f) for f in ("routes", "energy_stage", "comparison", "winner", "members",
                                                "relations_chosen_in_folds", "y_randomization")}
     record = FitRecord(
-        n=pairs.n, units=unit, energy_kind=kind, learner=opts.learner, relation=curve.relation_.name,
+        n=pairs.n, units=unit, energy_kind=kind, learner=opts.learner,
+        learners_chosen=({"energy_stage": two_stage.energy_.chosen_learner, "direct": direct.chosen_learner}
+                         if has_x else {}), relation=curve.relation_.name,
         requested_relation=opts.relation, features=list(X.columns) if has_x else [], tiers=tiers,
         primary_route=primary, curve=curve.record(), validation=regimes, **fields,
         energy_stage_importance=importance, intervals=intervals, hammett=hammett, **family_fields,

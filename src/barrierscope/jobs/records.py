@@ -89,6 +89,8 @@ class FitRecord(Record):
     units: str = q.text("kcal/mol")
     energy_kind: str = q.text()
     learner: str = q.text()
+    #: the learner each descriptor model uses, fitted on all members (``auto``: its choice)
+    learners_chosen: dict = q.quantity(q.TEXT, factory=dict)
     relation: str = q.text()
     requested_relation: str = q.text()
     features: list = q.texts()

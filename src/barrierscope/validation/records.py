@@ -63,6 +63,8 @@ class RegimeRecord(Record):
     energy_stage: Metrics | None = q.nested()
     curve_beats_mean: bool | None = q.flag()
     jackknife_plus: dict[str, JackknifeCoverage] = q.nested(factory=dict)
+    #: target ("energy_stage", "direct") → {learner: splits it predicted in} (``auto`` chooses per split)
+    learners: dict = q.quantity(q.COUNT, factory=dict)
 
 
 @dataclass(frozen=True)

@@ -29,7 +29,8 @@ from ..curves.intervals import t_quantile
 from ..curves.stats import predictive_variance
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
-from ..estimators.hybrid import out_of_fold_energy
+from ..estimators.learners import auto_candidates, inner_mse
+from ..estimators.hybrid import correction_learner, out_of_fold_energy
 from ..estimators.ridge import GUARD_FLAG
 from ..estimators.two_stage import clip_energy, rows
 from ..relations import RELATIONS, get_relation
@@ -89,6 +90,8 @@ class OutOfFold:
     fits: int = 0
     #: route → one array per split, aligned with that split's ``test`` (test sets may overlap)
     by_split: dict[str, list] = field(default_factory=dict)
+    #: target ("energy_stage", "direct") → the learner that predicted in each split
+    learners: dict[str, list] = field(default_factory=dict)
 
     def _put(self, route, idx, values):
         """Store ``values`` = (mean, std, low, high) of the members ``idx`` under ``route``."""
@@ -201,22 +204,39 @@ def _fold_fits(X, targets, splits, learner, *, random_state, oof: bool = False, 
     keeps the descriptor side of such fits for other targets on the same splits; ``warm`` (a
     fitted DescriptorRegressor) starts the other learners' hyper-parameter searches."""
     per_split = [targets[s.train] for s in splits] if isinstance(targets, np.ndarray) else list(targets)
+    if learner == "auto":
+        return _auto_fold_fits(X, per_split, splits, random_state=random_state, oof=oof, designs=designs, warm=warm)
     if learner == "ridge" and len({(s.train.size, s.test.size) for s in splits}) == 1:
         design = _design(X, splits, designs)
         r = design.solve(np.array(per_split))
         return [{"pred": r["pred"][k], "sd": r["sd"][k], "excess": r["excess"][k], "Z": design.Z[k],
-                 "Zt": design.Zt[k], "oof": per_split[k] - r["loo"][k]} for k in range(len(splits))]
+                 "Zt": design.Zt[k], "oof": per_split[k] - r["loo"][k], "inner_mse": float(r["mse"][k]),
+                 "learner": "ridge"} for k in range(len(splits))]
     out = []
     for s, t in zip(splits, per_split):
         Xtr, Xte = rows(X, s.train), rows(X, s.test)
         reg = DescriptorRegressor(learner, random_state, effort="refit").fit(Xtr, t, warm_start=warm)
         pred, sd = reg.predict(Xte, return_std=True)
         fit = {"pred": pred, "sd": sd, "excess": reg.manifold_excess(Xte), "Z": reg.standardise(Xtr),
-               "Zt": reg.standardise(Xte), "capped": int(reg.state_.get("capped", 0))}
+               "Zt": reg.standardise(Xte), "capped": int(reg.state_.get("capped", 0)),
+               "inner_mse": inner_mse(reg.state_), "learner": reg.chosen_learner}
         if oof:
             fit["oof"] = out_of_fold_energy(Xtr, t, learner, random_state, fitted=reg)
         out.append(fit)
     return out
+
+
+def _auto_fold_fits(X, per_split, splits, *, random_state, oof, designs, warm) -> list[dict]:
+    """``auto`` in every split: each candidate learner fitted on the split's training members,
+    the one with the lower inner (exact leave-one-out) error predicting the split's test
+    members — the choice made inside the split, as :class:`DescriptorRegressor` ("auto") makes it."""
+    hyper = None if warm is None else (getattr(warm, "state_", warm) or {}).get("auto", {}).get("gp")
+    # The family's size decides the candidates, so every split chooses from what the model did.
+    names = auto_candidates(np.shape(X)[0])
+    fits = {name: _fold_fits(X, per_split, splits, name, random_state=random_state, oof=oof, designs=designs,
+                             warm={"kind": "gp", **hyper} if (name == "gp" and hyper) else None)
+            for name in names}
+    return [min((fits[name][k] for name in names), key=lambda f: f["inner_mse"]) for k in range(len(splits))]
 
 
 def _design(X, splits, designs):
@@ -301,10 +321,14 @@ def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, l
     if "hybrid" in routes:
         # Each split's correction learns that split's out-of-fold residuals of the chain.
         nested = _nested_curve_barriers(curves, x, y, splits, e_oof=[f["oof"] for f in energy_fits])
-        corrections = _fold_fits(X, [y[s.train] - nested[k] for k, s in enumerate(splits)], splits, learner,
-                                 random_state=random_state, designs=designs, warm=warm_e)
+        corrections = _fold_fits(X, [y[s.train] - nested[k] for k, s in enumerate(splits)], splits,
+                                 correction_learner(learner), random_state=random_state, designs=designs,
+                                 warm=None if learner == "auto" else warm_e)
     else:
         corrections = []
+    out.learners = {"energy_stage": [f["learner"] for f in energy_fits]}
+    if direct_fits is not None:
+        out.learners["direct"] = [f["learner"] for f in direct_fits]
     out.optimizer_capped = sum(f.get("capped", 0) for f in [*energy_fits, *(direct_fits or []), *corrections])
     out.fits = len(energy_fits) + len(direct_fits or []) + len(corrections)
     if "hybrid" in routes:

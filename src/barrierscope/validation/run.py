@@ -11,6 +11,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from collections import Counter
+
 import numpy as np
 
 from ..estimators.preprocess import Preprocessor
@@ -26,7 +28,7 @@ SCHEMES = {"downhill": "end", "uphill": "end", "clusters": "clusters"}
 
 #: Learners whose every refit runs a hyper-parameter search (or grows a forest): their
 #: y-randomisation keeps at most this many shuffles, and says so.
-SLOW_LEARNERS = ("gp", "forest")
+SLOW_LEARNERS = ("auto", "gp", "forest")
 SLOW_SHUFFLES = 2
 
 #: |residual| above this many robust standard deviations marks a member as unusual (common
@@ -59,6 +61,7 @@ def _regime_record(oof, energy, barrier, ids, *, random_state, scheme: str) -> R
                         tied=decision["tied"], leader_beats=decision["leader_beats"],
                         beats_mean=decision["beats_mean"], misses=decision["misses"], pairs=decision["pairs"],
                         energy_stage=None if oof.energy is None else metrics(energy, oof.energy),
+                        learners={t: dict(Counter(names)) for t, names in oof.learners.items()},
                         curve_beats_mean=_curve_beats_mean(oof, barrier, random_state))
 
 
