@@ -39,6 +39,13 @@ def test_fit_json_contract(family_csv, tmp_path):
         for m in regime["routes"].values():
             assert {"mae", "rmse"} <= set(m)
     assert s["validation"]["downhill"]["n_test"] == 7  # the most exergonic quarter of 26, rounded up
+    # The recommendation (issue 20's contract): a string, first in the JSON and first in the verdict.
+    assert list(s)[0] == "recommendation" and isinstance(s["recommendation"], str)
+    assert s["verdict"].splitlines()[0] == s["recommendation"]
+    assert "members like those computed" in s["recommendation"] and "The model predicts with" in s["recommendation"]
+    assert s["learners_chosen"]["direct"] in ("ridge", "gp")
+    for name, regime in s["validation"].items():
+        assert regime["margin"] == 0.5 and all("beats" in c and "equivalent" in c for c in regime["pairs"].values())
     model = json.loads(out.read_text())
     assert model["schema_version"] == 2 and model["content"]["units"] == "kcal/mol"
     assert model["content"]["tiers"] == ["2d", "table"] and model["content"]["features"]
@@ -54,6 +61,28 @@ def test_curve_only_model(tmp_path):
     s = json.loads(r.stdout)
     assert s["energy_stage"] is None and s["routes"]["direct"] is None
     assert s["winner"] == "curve_on_true_energy" and s["routes"]["curve_on_true_energy"]["mae"] < 1.5
+    assert "use the curve fed computed reaction energies" in s["recommendation"]
+
+
+def test_a_margin_larger_than_any_difference_leaves_nothing_beating_the_mean(family_csv, tmp_path):
+    # --margin in the table's unit: 400 kJ/mol is far beyond any difference of these routes.
+    import pandas as pd
+
+    df = pd.read_csv(family_csv)
+    df[["dE", "dG"]] *= 4.184
+    path = tmp_path / "kj.csv"
+    df.to_csv(path, index=False)
+    r = runner.invoke(app, ["fit", str(path), "--substituents", "R1,R2", "--energy", "dE", "--barrier", "dG",
+                            "--units", "kJ/mol", "--margin", "400", "-o", str(tmp_path / "m.json"), "--json",
+                            "--shuffles", "0", "--learner", "ridge"])
+    assert r.exit_code == 0, r.output
+    s = json.loads(r.stdout)
+    assert s["recommendation"].startswith("Nothing beats the family mean in any regime tested")
+    assert all(v["winner"] in ("tie", "family_mean") and not v["beats_mean"] for v in s["validation"].values())
+    assert s["validation"]["loo"]["margin"] == pytest.approx(400.0)  # shown in the table's unit
+    r = runner.invoke(app, ["fit", str(path), "--substituents", "R1,R2", "--energy", "dE", "--barrier", "dG",
+                            "--margin", "-1", "-o", str(tmp_path / "m.json")])
+    assert r.exit_code == 2 and "--margin" in r.stderr
 
 
 def test_extra_descriptors_only(family_csv, tmp_path):

@@ -9,7 +9,7 @@ from scipy import stats
 
 from barrierscope.estimators import DescriptorRegressor, HybridRegressor, TwoStageRegressor
 from barrierscope.relations import get_relation
-from barrierscope.validation.metrics import beats, metrics, paired_comparison
+from barrierscope.validation.metrics import clearly_better, metrics, paired_comparison
 from barrierscope.validation.routes import out_of_fold
 from barrierscope.validation.splits import end_split, loo_splits
 from barrierscope.validation.verdict import decide
@@ -129,7 +129,7 @@ def test_paired_comparison_against_scipy():
     assert c.delta_mae == pytest.approx(np.mean(np.abs(a) - np.abs(b)))
     assert c.ci95[0] < c.delta_mae < c.ci95[1] < 0
     assert c.wilcoxon_p == pytest.approx(stats.wilcoxon(np.abs(a), np.abs(b)).pvalue)
-    assert beats(c) and not beats(paired_comparison(b, a))
+    assert clearly_better(c) and not clearly_better(paired_comparison(b, a))
 
 
 def test_verdict_calls_ties_and_names_the_members_behind_large_misses():
@@ -145,6 +145,40 @@ def test_verdict_calls_ties_and_names_the_members_behind_large_misses():
     assert d["winner"] == "tie" and d["tied"][0] == "hybrid" and {"direct", "two_stage"} <= set(d["tied"])
     assert d["misses"]["two_stage"][0][0] == "m5"
     assert "family_mean" not in d["beats_mean"] and "direct" in d["beats_mean"]
+
+
+def _errors_with_gap(gap: float, n: int = 40, seed: int = 3) -> dict:
+    """Invented held-out errors: the hybrid misses every member by ``gap`` kcal/mol more than
+    the two-stage route (same sign), the black box and the family mean by far more."""
+    rng = np.random.default_rng(seed)
+    e = rng.normal(0.0, 1.5, n)
+    return {"two_stage": e, "hybrid": e + np.sign(e) * gap, "direct": rng.normal(0.0, 5.0, n),
+            "family_mean": rng.normal(0.0, 8.0, n)}
+
+
+def test_a_difference_below_the_margin_is_equivalent_not_a_win():
+    ids = [f"m{i}" for i in range(40)]
+    errors = _errors_with_gap(0.05)
+    d = decide(errors, ids)
+    # Statistically the 0.05 kcal/mol gap is certain (every member, same sign: ``clear``); by
+    # size it is nothing a chemist would act on.
+    pair = d["pairs"]["two_stage_vs_hybrid"]
+    assert pair.clear and not pair.beats and pair.equivalent and pair.margin == pytest.approx(0.5)
+    assert d["winner"] == "tie" and d["tied"] == ["two_stage", "hybrid"] and d["equivalent"] == ["hybrid"]
+    assert set(d["leader_beats"]) == {"direct", "family_mean"}
+
+
+def test_a_difference_of_two_kcal_per_mol_wins():
+    d = decide(_errors_with_gap(2.0), [f"m{i}" for i in range(40)])
+    assert d["winner"] == "two_stage" and d["pairs"]["two_stage_vs_hybrid"].beats
+    assert not d["pairs"]["two_stage_vs_hybrid"].equivalent
+
+
+def test_practical_margin_is_the_floor_or_a_tenth_of_the_better_mae():
+    from barrierscope.validation.metrics import practical_margin
+
+    assert practical_margin(1.0, 3.0) == 0.5 and practical_margin(8.0, 6.0) == pytest.approx(0.6)
+    assert practical_margin(8.0, 6.0, floor=1.0) == 1.0
 
 
 def test_no_route_beats_the_mean_when_the_barrier_ignores_everything():
@@ -223,7 +257,7 @@ def test_downhill_favours_the_physics_route_when_the_black_box_must_extrapolate(
     assert down.winner in ("two_stage", "hybrid", "tie")
     physics = {"two_stage", "hybrid"}
     assert (down.winner in physics) or (set(down.tied) <= physics and "direct" in down.leader_beats)
-    assert beats(down.pairs["two_stage_vs_direct"])
+    assert down.pairs["two_stage_vs_direct"].beats
     assert down.routes["two_stage"].mae < 0.5 * down.routes["direct"].mae
 
 

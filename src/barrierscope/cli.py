@@ -212,6 +212,9 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
                                                         help="Comma-separated numeric columns of your own descriptors."),
         id_column: Optional[str] = ID,
         shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
+        margin: Optional[float] = typer.Option(None, "--margin", help="Smallest MAE difference (in --units) the "
+                                                                     "verdict counts as a win; at least a tenth of the "
+                                                                     "better MAE either way. Default 0.5 kcal/mol."),
         skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) unusable rows."),
         family: Optional[str] = FAMILY, share: Optional[str] = SHARE,
         prediction_intervals: str = typer.Option("model", "--prediction-intervals",
@@ -233,7 +236,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
     opts = FitOptions(energy_column=energy, barrier_column=barrier, learner=learner, relation=relation, units=units,
                       energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
                       n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals,
-                      family_column=family, share=parse_share(share))
+                      family_column=family, share=parse_share(share), margin=margin)
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
                      multiplicity=multiplicity)
     model, record = fit_file(data, output, structure, opts,

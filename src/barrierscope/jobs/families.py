@@ -26,7 +26,7 @@ from ..curves.joint import fit_joint, separate_fits, sharing_test
 from ..curves.joint_intervals import derived_with_intervals, joint_profile_intervals
 from ..curves.records import FamilyEntry, SeparateFit
 from ..relations import get_relation
-from ..validation.metrics import beats, metrics, paired_comparison
+from ..validation.metrics import judge, metrics, paired_comparison
 from .records import FamilyRegime, JointRecord
 
 SHARE_CHOICES = "none, or a comma list of parameter names (floor, midpoint, width for the asymptotic curve)"
@@ -128,10 +128,13 @@ def joint_record(energy, barrier, labels, relation: str = "asymptotic", *, share
 def _scores(y, preds: dict, base: str = "joint", note: str = "") -> FamilyRegime:
     routes = {r: metrics(y, p) for r, p in preds.items()}
     ok = np.all([np.isfinite(p) for p in preds.values()], axis=0)
-    pairs = {f"{base}_vs_{r}": paired_comparison(preds[base][ok] - y[ok], preds[r][ok] - y[ok])
+    err = {r: p[ok] - y[ok] for r, p in preds.items()}
+    mae = {r: float(np.mean(np.abs(e))) if e.size else float("nan") for r, e in err.items()}
+    # Judged as the regimes' routes are: clear at 95 % and by the practical margin.
+    pairs = {f"{base}_vs_{r}": judge(paired_comparison(err[base], err[r]), mae[base], mae[r])
              for r in preds if r != base and ok.sum() >= 3}
     return FamilyRegime(n_test=int(ok.sum()), routes=routes, pairs=pairs, note=note,
-                        joint_beats=[k.split("_vs_")[1] for k, c in pairs.items() if beats(c)])
+                        joint_beats=[k.split("_vs_")[1] for k, c in pairs.items() if c.beats])
 
 
 def _rows_without(n: int, held: list[np.ndarray], base=None) -> np.ndarray:

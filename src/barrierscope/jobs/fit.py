@@ -22,7 +22,7 @@ from ..relations import RELATIONS, get_relation
 from ..units import normalize_unit, parse_energy_kind
 from ..validation.run import ValidationOptions, validate
 from ..validation.splits import REGIMES
-from ..validation.verdict import primary_route
+from ..validation.verdict import primary_route, recommendation
 from .members import prepare_members
 from .model import FamilyModel
 from .records import FitRecord, IntervalsRecord
@@ -52,6 +52,8 @@ class FitOptions:
     #: several families at once: the column naming each member's family, and the shared parameters
     family_column: str | None = None
     share: tuple[str, ...] = ("width",)
+    #: the practical margin's floor in ``units`` (None: 0.5 kcal/mol; see validation.metrics)
+    margin: float | None = None
 
 INTERVAL_METHODS = ("model", "jackknife+")
 
@@ -103,6 +105,14 @@ def fit_routes(X, energy, barrier, opts: FitOptions):
     return two_stage, hybrid, direct, ApplicabilityDomain().fit(Z, energy)
 
 
+def margin_kcal(margin: float | None, unit: str) -> float:
+    """The practical margin's floor in kcal/mol from ``--margin`` (in the table's unit)."""
+    from ..units import to_kcal
+    from ..validation.metrics import MARGIN_KCAL
+
+    return MARGIN_KCAL if margin is None else float(to_kcal(margin, unit))
+
+
 def check_options(opts: FitOptions) -> tuple[str, str]:
     """(energy kind, unit) once every option is known to be usable; else the option's message."""
     with option("--learner"):
@@ -116,6 +126,8 @@ def check_options(opts: FitOptions) -> tuple[str, str]:
         unit = normalize_unit(opts.units)
     one_of("--prediction-intervals", opts.prediction_intervals, INTERVAL_METHODS)
     at_least("--shuffles", opts.n_shuffles, 0)
+    if opts.margin is not None and not opts.margin >= 0:
+        raise InputError(f"--margin must be zero or a positive energy in the table's unit (got {opts.margin})")
     if opts.family_column and opts.prediction_intervals != "model":
         raise InputError("--prediction-intervals jackknife+ is not available with --family yet: its refits know one "
                          "curve, not each family's")
@@ -148,7 +160,7 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
                      f"search in every validation split would cost O(n³) each step)")
     checked = validate(X if has_x else None, energy, barrier, pairs.ids,
                        opts=ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
-                                         opts.regimes))
+                                              opts.regimes, margin=margin_kcal(opts.margin, unit)))
     primary = primary_route(checked.validation["loo"], checked.routes) if has_x else "two_stage"
     notes += checked.notes
     hammett = None
@@ -165,10 +177,12 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
     tiers = list(getattr(engine, "tiers", ())) if has_x else []
     fields = {f: getattr(checked, f) for f in ("routes", "energy_stage", "comparison", "winner", "members",
                                                "relations_chosen_in_folds", "y_randomization")}
+    chosen = ({"energy_stage": two_stage.energy_.chosen_learner, "direct": direct.chosen_learner} if has_x else {})
+    advice = recommendation(regimes, primary=primary if has_x else "curve_on_true_energy",
+                            black_box=chosen.get("direct"))
     record = FitRecord(
-        n=pairs.n, units=unit, energy_kind=kind, learner=opts.learner,
-        learners_chosen=({"energy_stage": two_stage.energy_.chosen_learner, "direct": direct.chosen_learner}
-                         if has_x else {}), relation=curve.relation_.name,
+        recommendation=advice, n=pairs.n, units=unit, energy_kind=kind, learner=opts.learner,
+        learners_chosen=chosen, relation=curve.relation_.name,
         requested_relation=opts.relation, features=list(X.columns) if has_x else [], tiers=tiers,
         primary_route=primary, curve=curve.record(), validation=regimes, **fields,
         energy_stage_importance=importance, intervals=intervals, hammett=hammett, **family_fields,

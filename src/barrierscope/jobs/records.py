@@ -85,6 +85,8 @@ class IntervalsRecord(Record):
 class FitRecord(Record):
     """A fitted, validated family (`fit --json`; kcal/mol inside)."""
 
+    #: one sentence: which route to use where, or that nothing beats the family mean (no numbers)
+    recommendation: str = q.text()
     n: int = q.count()
     units: str = q.text("kcal/mol")
     energy_kind: str = q.text()

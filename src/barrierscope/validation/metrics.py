@@ -6,13 +6,29 @@ interval. Routes are compared on the same members: the mean difference of absolu
 and of squared errors, each with a case-bootstrap 95 % interval (B. Efron, R. J. Tibshirani,
 *An Introduction to the Bootstrap*, 1993), and the Wilcoxon signed-rank p (F. Wilcoxon,
 Biometrics Bull. 1945, 1, 80). Energies in kcal/mol.
+
+A route *beats* another only when the difference is clear statistically and at least a
+practical margin (:func:`judge`); two routes are *equivalent* when two one-sided tests put the
+MAE difference inside that margin (D. J. Schuirmann, J. Pharmacokinet. Biopharm. 1987, 15,
+657). The margin is :data:`MARGIN_KCAL` or :data:`MARGIN_FRACTION` of the better MAE,
+whichever is larger: 0.5 kcal/mol changes a rate constant at 25 °C by a factor of 2.3, below
+what a chemist would act on when choosing a model and below the error of the computed
+barriers themselves (common practice: density-functional barriers carry errors of one to a
+few kcal/mol); a tenth of the MAE keeps the margin in proportion when every route misses by
+several kcal/mol. benchmarks/bench_verdict_margin.py measures how often smaller differences
+reverse between random halves of a family.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from ..records import replace
 from .records import Metrics, PairComparison
+
+#: The practical margin's floor (kcal/mol) and its share of the better MAE (see the module docstring).
+MARGIN_KCAL = 0.5
+MARGIN_FRACTION = 0.10
 
 
 def metrics(y, pred, low=None, high=None) -> Metrics:
@@ -48,20 +64,39 @@ def paired_comparison(err_route, err_base, idx: np.ndarray | None = None, random
     b = np.abs(np.asarray(err_base, dtype=float))
     idx = bootstrap_indices(a.size, random_state=random_state) if idx is None else idx
     d_abs, d_sq = a - b, a * a - b * b
-    lo, hi = np.percentile(d_abs[idx].mean(axis=1), [2.5, 97.5])
+    boot = d_abs[idx].mean(axis=1)
+    lo, hi = np.percentile(boot, [2.5, 97.5])
+    lo90, hi90 = np.percentile(boot, [5.0, 95.0])
     slo, shi = np.percentile(d_sq[idx].mean(axis=1), [2.5, 97.5])
     p = 1.0 if np.allclose(d_abs, 0.0) or a.size < 2 else wilcoxon_p(a, b)
-    return PairComparison(delta_mae=float(d_abs.mean()), ci95=[float(lo), float(hi)], wilcoxon_p=p,
-                          delta_mse=float(d_sq.mean()), mse_ci95=[float(slo), float(shi)])
+    return PairComparison(delta_mae=float(d_abs.mean()), ci95=[float(lo), float(hi)], ci90=[float(lo90), float(hi90)],
+                          wilcoxon_p=p, delta_mse=float(d_sq.mean()), mse_ci95=[float(slo), float(shi)])
 
 
-def beats(c: PairComparison) -> bool:
-    """Does the route clearly beat the base in a :func:`paired_comparison`? Clearly lower MAE
-    without clearly larger squared errors, or clearly lower squared errors without clearly
-    larger MAE (both at 95 %)."""
+def clearly_better(c: PairComparison) -> bool:
+    """Is the route statistically clearly better than the base in a :func:`paired_comparison`?
+    Clearly lower MAE without clearly larger squared errors, or clearly lower squared errors
+    without clearly larger MAE (both at 95 %). Says nothing about size: see :func:`judge`."""
     mae_better, mae_worse = c.ci95[1] < 0, c.ci95[0] > 0
     mse_better, mse_worse = c.mse_ci95[1] < 0, c.mse_ci95[0] > 0
     return (mae_better and not mse_worse) or (mse_better and not mae_worse)
+
+
+def practical_margin(mae_a: float, mae_b: float, floor: float = MARGIN_KCAL, fraction: float = MARGIN_FRACTION) -> float:
+    """The smallest MAE difference (kcal/mol) a verdict counts between two routes of these MAEs."""
+    return max(float(floor), float(fraction) * min(float(mae_a), float(mae_b)))
+
+
+def judge(c: PairComparison, mae_route: float, mae_base: float, floor: float = MARGIN_KCAL,
+          fraction: float = MARGIN_FRACTION) -> PairComparison:
+    """The comparison with its verdict: ``margin`` (kcal/mol), ``clear`` (statistically, see
+    :func:`clearly_better`), ``beats`` (clear *and* MAE lower by at least the margin) and
+    ``equivalent`` (the 90 % interval of the MAE difference inside ±margin: two one-sided
+    tests at 5 %, D. J. Schuirmann 1987)."""
+    m = practical_margin(mae_route, mae_base, floor, fraction)
+    clear = clearly_better(c)
+    return replace(c, margin=m, clear=clear, beats=bool(clear and c.delta_mae <= -m),
+                   equivalent=bool(-m < c.ci90[0] and c.ci90[1] < m))
 
 
 def largest_misses(err, ids, k: int = 3, factor: float = 2.0) -> list[tuple[str, float]]:

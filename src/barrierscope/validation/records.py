@@ -26,13 +26,23 @@ class Metrics(Record):
 @dataclass(frozen=True)
 class PairComparison(Record):
     """One route against another on the same members: MAE(route) − MAE(base) with its
-    bootstrap 95 % interval, the same for squared errors, and the Wilcoxon p."""
+    bootstrap 95 % (and 90 %) interval, the same for squared errors, and the Wilcoxon p; once
+    judged (:func:`.metrics.judge`), the practical margin and the verdict on the pair."""
 
     delta_mae: float = q.energy()
     ci95: list = q.energy(factory=list)
     wilcoxon_p: float = q.probability()
     delta_mse: float = q.energy2()
     mse_ci95: list = q.energy2(factory=list)
+    ci90: list = q.energy(factory=list)
+    #: the smallest MAE difference counted for this pair
+    margin: float | None = q.energy(None, absent=True)
+    #: statistically clearly better (95 %), whatever the size
+    clear: bool | None = q.flag(None, absent=True)
+    #: clearly better and by at least the margin: what the verdict counts
+    beats: bool | None = q.flag(None, absent=True)
+    #: the MAE difference shown to lie inside ±margin (two one-sided tests at 5 %)
+    equivalent: bool | None = q.flag(None, absent=True)
 
 
 @dataclass(frozen=True)
@@ -55,7 +65,11 @@ class RegimeRecord(Record):
     winner: str | None = q.text(None)
     tied: list = q.texts()
     leader_beats: list = q.texts()
+    #: on a tie, the routes shown equivalent to the lowest-MAE one (within the margin)
+    equivalent: list = q.texts()
     beats_mean: list = q.texts()
+    #: the practical margin's floor used (kcal/mol); each pair carries its own margin
+    margin: float | None = q.energy(None)
     #: route → [(member id, signed error kcal/mol)] behind its large misses
     misses: dict = q.energy(factory=dict)
     pairs: dict[str, PairComparison] = q.nested(factory=dict)

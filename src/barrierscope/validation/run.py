@@ -16,7 +16,7 @@ from collections import Counter
 import numpy as np
 
 from ..estimators.preprocess import Preprocessor
-from .metrics import beats, metrics, paired_comparison
+from .metrics import MARGIN_KCAL, judge, metrics, paired_comparison
 from .records import MembersTable, RegimeRecord, ValidationRecord
 from .routes import ROUTES, out_of_fold
 from .splits import REGIMES, loo_scheme, regimes
@@ -44,6 +44,8 @@ class ValidationOptions:
     random_state: int = 0
     n_shuffles: int = 5
     regimes: tuple[str, ...] = REGIMES
+    #: the practical margin's floor, kcal/mol (:func:`.metrics.practical_margin`)
+    margin: float = MARGIN_KCAL
 
 
 def standardised(X) -> np.ndarray | None:
@@ -54,28 +56,30 @@ def standardised(X) -> np.ndarray | None:
     return Preprocessor.fit(A, [str(c) for c in range(A.shape[1])]).transform(A)
 
 
-def _regime_record(oof, energy, barrier, ids, *, random_state, scheme: str) -> RegimeRecord:
+def _regime_record(oof, energy, barrier, ids, *, random_state, scheme: str, margin: float) -> RegimeRecord:
     routes = {r: metrics(barrier, oof.pred[r], oof.low[r], oof.high[r]) for r in ROUTES if r in oof.pred}
-    decision = decide({r: oof.pred[r] - barrier for r in oof.pred}, ids, random_state)
+    decision = decide({r: oof.pred[r] - barrier for r in oof.pred}, ids, random_state, margin)
     return RegimeRecord(n_test=int(oof.tested.sum()), scheme=scheme, routes=routes, winner=decision["winner"],
                         tied=decision["tied"], leader_beats=decision["leader_beats"],
+                        equivalent=decision["equivalent"], margin=margin,
                         beats_mean=decision["beats_mean"], misses=decision["misses"], pairs=decision["pairs"],
                         energy_stage=None if oof.energy is None else metrics(energy, oof.energy),
                         learners={t: dict(Counter(names)) for t, names in oof.learners.items()},
-                        curve_beats_mean=_curve_beats_mean(oof, barrier, random_state))
+                        curve_beats_mean=_curve_beats_mean(oof, barrier, random_state, margin))
 
 
-def _curve_beats_mean(oof, barrier, random_state) -> bool | None:
+def _curve_beats_mean(oof, barrier, random_state, margin: float) -> bool | None:
     """Does the barrier follow the reaction energy at all: does the curve fed the held-out
-    members' own reaction energies clearly beat the family mean on them?"""
+    members' own reaction energies beat the family mean on them (clearly, and by the margin)?"""
     if "curve_on_true_energy" not in oof.pred or "family_mean" not in oof.pred:
         return None
     t = oof.tested
     if t.sum() < 3:
         return None
-    c = paired_comparison(oof.pred["curve_on_true_energy"][t] - barrier[t], oof.pred["family_mean"][t] - barrier[t],
-                          random_state=random_state)
-    return beats(c)
+    e_curve = oof.pred["curve_on_true_energy"][t] - barrier[t]
+    e_mean = oof.pred["family_mean"][t] - barrier[t]
+    c = paired_comparison(e_curve, e_mean, random_state=random_state)
+    return bool(judge(c, np.mean(np.abs(e_curve)), np.mean(np.abs(e_mean)), margin).beats)
 
 
 def _members(oof, energy, barrier, ids) -> MembersTable:
@@ -117,7 +121,8 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
             continue
         oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, designs=designs, **kw)
         regimes_out[name] = _regime_record(oof, energy, barrier, ids, random_state=opts.random_state,
-                                           scheme=SCHEMES.get(name, name) if name != "loo" else loo_scheme(energy.size))
+                                           scheme=SCHEMES.get(name, name) if name != "loo" else loo_scheme(energy.size),
+                                           margin=opts.margin)
         capped, fits = capped + oof.optimizer_capped, fits + oof.fits
         if name == "loo":
             loo = oof
@@ -125,11 +130,11 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
         raise ValueError("leave-one-out validation is required")
     top = regimes_out["loo"]
     shuffles = opts.n_shuffles
-    if opts.learner in SLOW_LEARNERS and shuffles > SLOW_SHUFFLES:
+    if has_x and opts.learner in SLOW_LEARNERS and shuffles > SLOW_SHUFFLES:
         shuffles = SLOW_SHUFFLES
         notes.append(f"y-randomisation capped at {SLOW_SHUFFLES} shuffles for the {opts.learner} learner "
                      f"(each shuffle refits it in every fold); {opts.n_shuffles} were asked for")
-    if opts.learner == "forest":
+    if has_x and opts.learner == "forest":
         from ..estimators.learners import FOREST_TREES, REFIT_FOREST_TREES
 
         notes.append(f"validation refits grow forests of {REFIT_FOREST_TREES} trees (the model's has "

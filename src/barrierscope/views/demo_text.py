@@ -6,7 +6,7 @@ from ..kinetics import format_duration
 from .cautions import CAUTION
 from .suggest_text import suggest_json
 from .units import in_unit
-from .verdict import verdict_text
+from .verdict import verdict_lines
 
 
 def format_demo(result: dict) -> str:
@@ -16,7 +16,8 @@ def format_demo(result: dict) -> str:
     advice = suggest_json(result["advice"])
     lines = ["barrierscope demo — an INVENTED reaction family (see CARD.md); every number below is from the model.",
              "", f"fit: {rec['n']} members, relation {rec['relation']}, learner {rec['learner']}",
-             f"verdict: {verdict_text(rec, unit, model.tiers)}", "",
+             "recommendation: " + verdict_lines(rec, unit, model.tiers)[0], "", "verdict:",
+             *[f"  {x}" for x in verdict_lines(rec, unit, model.tiers)[1:]], "",
              f"screen: {screen['rows']} library rows, {screen['ok']} ok, {screen['rows'] - screen['ok']} with errors "
              f"(each explained in its status), {screen['energy_given']} with a computed reaction energy used directly"]
     if screen.get("at_floor"):

@@ -6,11 +6,11 @@ Takes the fit record already in the user's unit (:func:`.units.in_unit`).
 from __future__ import annotations
 
 from .cautions import CAUTION
-from .verdict import verdict_text
+from .labels import energy_labels
+from .verdict import SHORT, verdict_lines, verdict_text
 
-ROUTE_LABELS = {"two_stage": "two-stage barrier", "hybrid": "hybrid barrier", "direct": "direct barrier (black box)",
-                "curve_on_true_energy": "curve on the true dE", "family_mean": "family mean"}
-SHORT = {"two_stage": "two-stage", "hybrid": "hybrid", "direct": "black box", "curve_on_true_energy": "curve on true dE"}
+ROUTE_LABELS = {"two_stage": "two-stage route", "hybrid": "hybrid route", "direct": "black box",
+                "curve_on_true_energy": "curve on computed energies", "family_mean": "family mean"}
 REGIME_LABELS = {"loo": "leave-one-out", "downhill": "downhill", "uphill": "uphill", "clusters": "clusters"}
 
 
@@ -32,7 +32,7 @@ def regime_table(record: dict) -> list[str]:
                                  for k, v in regimes.items())
     sub = f"{'':<28}" + "".join(f"{'MAE':>7}{'RMSE':>7}{'cover':>6}" for _ in regimes)
     lines = [head, sub, "-" * len(sub)]
-    rows = [("energy_stage", "energy stage (dE)")] + list(ROUTE_LABELS.items())
+    rows = [("energy_stage", f"energy stage ({energy_labels(record.get('energy_kind'))[0]})")] + list(ROUTE_LABELS.items())
     for key, label in rows:
         cells = []
         for v in regimes.values():
@@ -41,11 +41,21 @@ def regime_table(record: dict) -> list[str]:
         if any(c.strip("— ") for c in cells):
             lines.append(f"{label:<28}" + "".join(cells))
     lines += _jackknife_rows(regimes)
-    lines.append(f"{'winner':<28}" + "".join(f"{str(v.get('winner') or 'not run'):>20}" for v in regimes.values()))
+    lines.append(f"{'winner':<28}" + "".join(f" {winner_words(v):>19}" for v in regimes.values()))
     skipped = [f"{regime_label(k, v)}: {v['skipped']}" for k, v in regimes.items() if v.get("skipped")]
     if skipped:
         lines.append("not run — " + "; ".join(skipped))
     return lines
+
+
+def winner_words(regime: dict) -> str:
+    """A regime's winner in words: a route, "none (tie)", "none (family mean)" or "not run"."""
+    w = regime.get("winner")
+    if regime.get("skipped") or not w:
+        return "not run"
+    if w == "tie":
+        return "none (tie)"
+    return "curve" if w == "curve_on_true_energy" else SHORT.get(w, w)
 
 
 def _jackknife_rows(regimes: dict) -> list[str]:
@@ -80,10 +90,22 @@ def member_flag_lines(record: dict, shown: int = 6) -> list[str]:
     return lines
 
 
+def _learner_words(record: dict) -> str:
+    """The learner as the header says it: ``auto`` with what it chose for each model."""
+    chosen = record.get("learners_chosen") or {}
+    if not record.get("features"):
+        return "no descriptors (curve only)"
+    if record["learner"] == "auto" and chosen:
+        return ("learner auto (energy stage " + str(chosen.get("energy_stage")) + ", black box " +
+                str(chosen.get("direct")) + ")")
+    return f"learner {record['learner']}"
+
+
 def format_fit(record: dict, tiers=()) -> str:
     """The table `fit` prints (energies in the record's unit)."""
     unit = record["units"]
-    lines = [f"{record['n']} members; {record['energy_kind']} in {unit}; learner {record['learner']}; relation "
+    learner = _learner_words(record)
+    lines = [f"{record['n']} members; {record['energy_kind']} in {unit}; {learner}; relation "
              f"{record['relation']}" + (f" (chosen from {record['requested_relation']})"
                                         if record["requested_relation"] != record["relation"] else ""), ""]
     lines += regime_table(record)
@@ -93,17 +115,20 @@ def format_fit(record: dict, tiers=()) -> str:
         lines.append(f"jackknife+ rows: intervals built from each split's training members alone (median width in "
                      f"the RMSE column); the model file uses {iv['method']} intervals for the {iv['route']} route")
     if record["comparison"]:
-        lines += ["", "leave-one-out, against the black box (MAE difference, 95 % bootstrap interval, Wilcoxon p):"]
+        lines += ["", "leave-one-out, each route against the black box (MAE difference, negative: the route does "
+                      "better; 95 % bootstrap interval; Wilcoxon p):"]
         for k, c in record["comparison"].items():
-            lines.append(f"  {k.replace('_vs_direct', ''):<10} {c['delta_mae']:+.3g} [{c['ci95'][0]:+.3g}, "
-                         f"{c['ci95'][1]:+.3g}]  p = {c['wilcoxon_p']:.2g}")
+            lines.append(f"  {SHORT.get(k.replace('_vs_direct', ''), k):<10} {c['delta_mae']:+.3g} "
+                         f"[{c['ci95'][0]:+.3g}, {c['ci95'][1]:+.3g}]  p = {c['wilcoxon_p']:.2g}")
     y = record.get("y_randomization")
     if y:
-        lines.append(f"y-randomisation ({y['n_shuffles']} shuffles): two-stage MAE {y['mae_mean']:.3g} ± "
-                     f"{y['mae_std']:.2g}; the best constant predictor: {y['mean_predictor_mae']:.3g}")
-    lines += ["", "verdict: " + verdict_text(record, unit, tiers),
-              f"the model predicts with the {ROUTE_LABELS.get(record['primary_route'], record['primary_route'])} "
-              f"route (members with a given reaction energy go straight to the curve)"]
+        lines.append(f"y-randomisation ({y['n_shuffles']} shuffles of the barriers): two-stage MAE {y['mae_mean']:.3g} "
+                     f"± {y['mae_std']:.2g}, black box {y['direct_mae_mean']:.3g}")
+    verdict = verdict_lines(record, unit, tiers)
+    lines = lines[:1] + ["", "recommendation: " + verdict[0], ""] + lines[1:] if record.get("recommendation") else lines
+    rest = verdict[1:] if record.get("recommendation") else verdict
+    lines += ["", "verdict:"] + [f"  {v}" for v in rest]
+    lines.append("members with a computed reaction energy go straight to the curve")
     c = record["curve"]
     if record.get("families"):
         from .families_text import family_rows, validation_rows

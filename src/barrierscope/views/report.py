@@ -19,11 +19,20 @@ from . import depict
 from . import figures as fg
 from .cautions import CAUTION
 from .curve_text import KINDS, identifiability_text
-from .fit_text import ROUTE_LABELS, regime_label
+from .fit_text import ROUTE_LABELS, regime_label, winner_words
 from .html import STYLE, esc, figure, num, table
+from .labels import energy_labels
 from .report_extra import families_section, hammett_section
 from .units import in_unit, to_unit
-from .verdict import verdict_text
+from .verdict import verdict_lines
+
+
+def _verdict(rec: dict, unit: str, tiers) -> str:
+    """The recommendation in bold, then the verdict's lines as a list."""
+    lines = verdict_lines(rec, unit, tiers)
+    head, rest = (lines[0], lines[1:]) if rec.get("recommendation") else ("", lines)
+    return ("<h2>Verdict</h2><div class='verdict'>" + (f"<p><b>{esc(head)}</b></p>" if head else "") +
+            "<ul>" + "".join(f"<li>{esc(x)}</li>" for x in rest) + "</ul></div>")
 
 
 def _validation(rec: dict, unit: str) -> str:
@@ -31,7 +40,8 @@ def _validation(rec: dict, unit: str) -> str:
     head = ["route"] + [f"{regime_label(k, v)}{' (' + str(v['n_test']) + ')' if v['n_test'] else ''}<br>MAE · RMSE · "
                         f"cover" for k, v in regimes.items()]
     rows = []
-    for key, label in [("energy_stage", "energy stage (reaction energy)"), *ROUTE_LABELS.items()]:
+    for key, label in [("energy_stage", f"energy stage ({energy_labels(rec.get('energy_kind'))[0]})"),
+                       *ROUTE_LABELS.items()]:
         cells = []
         for v in regimes.values():
             m = v.get("energy_stage") if key == "energy_stage" else v.get("routes", {}).get(key)
@@ -39,7 +49,7 @@ def _validation(rec: dict, unit: str) -> str:
                                            f"{'—' if 'pi90_coverage' not in m else format(m['pi90_coverage'], '.0%')}")
         if any(c != "—" for c in cells):
             rows.append([esc(label)] + cells)
-    rows.append(["<b>winner</b>"] + [esc(str(v.get("winner") or "not run: " + v.get("skipped", "")))
+    rows.append(["<b>winner</b>"] + [esc(winner_words(v) + (": " + v["skipped"] if v.get("skipped") else ""))
                                      for v in regimes.values()])
     text = ("<h2>Validation</h2><p>Every route refitted without the held-out members — scaling, the learner's "
             "hyper-parameters, the relation's choice and the curve fit included. Leave-one-out measures "
@@ -49,9 +59,9 @@ def _validation(rec: dict, unit: str) -> str:
     text += table(head, rows)
     y = rec.get("y_randomization")
     if y:
-        text += (f"<p>y-randomisation ({y['n_shuffles']} shuffles of the targets): two-stage LOO MAE "
-                 f"{num(y['mae_mean'])} ± {num(y['mae_std'], 2)} {esc(unit)}, black box {num(y['direct_mae_mean'])}; "
-                 f"the best constant predictor reaches {num(y['mean_predictor_mae'])}.</p>")
+        text += (f"<p>y-randomisation ({y['n_shuffles']} shuffles of the barriers, every route refitted): two-stage "
+                 f"LOO MAE {num(y['mae_mean'])} ± {num(y['mae_std'], 2)} {esc(unit)}, black box "
+                 f"{num(y['direct_mae_mean'])}.</p>")
     return text
 
 
@@ -61,6 +71,7 @@ def _members(rec: dict, unit: str, model=None) -> str:
         return ""
     route = rec.get("primary_route", "two_stage")
     route = route if route in m["pred"] else "curve_on_true_energy"
+    r_label, b_label = energy_labels(rec.get("energy_kind"))
     err = np.asarray(m["pred"][route], dtype=float) - np.asarray(m["barrier"], dtype=float)
     order = np.argsort(-np.abs(err))
     unusual = np.asarray(m.get("unusual", []), dtype=bool)
@@ -79,9 +90,9 @@ def _members(rec: dict, unit: str, model=None) -> str:
     return ("<h2>Members behind the largest errors</h2><p>Leave-one-out predictions of the route the model uses "
             f"({esc(ROUTE_LABELS.get(route, route))}); an <i>unusual residual</i> is one the curve misses by more "
             "than three robust standard deviations even from the member's own reaction energy: check its transition "
-            "state and its energies (the full table: <code>fit --members</code>).</p>" +
-            table(["id", "structure", f"dE ({esc(unit)})", "barrier", "LOO prediction", "residual",
-                   "curve on true dE", "flags"], rows))
+            "state and its energies (the full table: <code>fit --members</code>). Residual: predicted − computed.</p>" +
+            table(["id", "structure", f"{r_label} ({esc(unit)})", b_label, "LOO prediction", "residual",
+                   "curve on computed energy", "flags"], rows))
 
 
 def _curve(model, rec, comparison, unit, *, picks, figures_dir) -> str:
@@ -158,7 +169,7 @@ def build_report(model, record, comparison, source: str = "", *, screen=None, pi
              f"{esc(KINDS.get(model.energy_kind, model.energy_kind))} in {esc(unit)} · written "
              f"{datetime.now(timezone.utc).strftime('%Y-%m-%d %H:%M UTC')} by barrierscope {esc(__version__)}</p>",
              f"<div class='caution'>{esc(CAUTION)}</div>",
-             f"<h2>Verdict</h2><div class='verdict'>{esc(verdict_text(rec, unit, model.tiers))}</div>",
+             _verdict(rec, unit, model.tiers),
              _validation(rec, unit), _members(rec, unit, model), _curve(model, rec, comparison, unit, picks=pick_list, figures_dir=figures_dir),
              hammett_section(record.hammett, model.training["barrier"], unit, figures_dir),
              families_section(record, model, unit, figures_dir),

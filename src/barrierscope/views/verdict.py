@@ -1,15 +1,18 @@
-"""The verdict in words: per regime, who wins (or that the data cannot tell), against the
-family mean and chance, with the large misses named and the weak link of the chain shown.
+"""The verdict in words: the recommendation first, then one short line per regime, then what
+the chemist should know about the black box, chance and the weak link of the chain.
 
-Takes a validation record already in the user's unit (:func:`.units.in_unit`).
+Takes a fit record already in the user's unit (:func:`.units.in_unit`). Residuals and misses
+are signed predicted − computed, said once where they appear.
 """
 
 from __future__ import annotations
 
 from ..validation.splits import LOO_MAX
+from ..validation.verdict import LEARNER_WORDS, regime_choice, route_words
+from .labels import energy_labels
 
-NAMES = {"two_stage": "two-stage", "hybrid": "hybrid", "direct": "black box", "family_mean": "family mean",
-         "curve_on_true_energy": "curve on the true reaction energy"}
+SHORT = {"two_stage": "two-stage", "hybrid": "hybrid", "direct": "black box", "family_mean": "family mean",
+         "curve_on_true_energy": "curve on computed energies"}
 REGIME_NAMES = {"loo": "Leave-one-out (interpolation)",
                 "downhill": "Downhill (the most exergonic quarter held out)",
                 "uphill": "Uphill (the most endergonic quarter held out)",
@@ -23,47 +26,74 @@ def _g(v) -> str:
     return "—" if v is None else f"{v:.3g}"
 
 
-def _maes(routes: dict, names) -> str:
-    return ", ".join(f"{NAMES[r]} {_g(routes[r]['mae'])}" for r in names if routes.get(r))
+def _black_box(record: dict) -> str | None:
+    return (record.get("learners_chosen") or {}).get("direct")
 
 
-def _misses_text(regime: dict, unit: str) -> str:
+def _numbers(regime: dict, unit: str) -> str:
+    routes = regime["routes"]
+    shown = [r for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean") if routes.get(r)]
+    maes = ", ".join(f"{SHORT[r]} {_g(routes[r]['mae'])}" for r in shown)
+    return f"MAE {maes} {unit}; {regime['n_test']} held out"
+
+
+def _misses_text(regime: dict) -> str:
     out = []
     for r, m in regime["routes"].items():
         if r in ("family_mean", "curve_on_true_energy") or not m or m["mae"] <= 0:
             continue
         if m["rmse"] > MISS_RATIO * m["mae"] and regime.get("misses", {}).get(r):
             who = ", ".join(f"{i} ({e:+.3g})" for i, e in regime["misses"][r])
-            out.append(f"the {NAMES[r]}'s RMSE ({_g(m['rmse'])}) is {m['rmse'] / m['mae']:.1f}× its MAE, "
-                       f"from large misses at {who}")
-    text = "; ".join(out)
-    return text[:1].upper() + text[1:] + "." if text else ""
+            out.append(f"{SHORT[r]} RMSE {m['rmse'] / m['mae']:.1f}× its MAE, from {who}")
+    return "large misses (predicted − computed): " + "; ".join(out) + "." if out else ""
 
 
-def regime_sentence(name: str, regime: dict, unit: str) -> str:
-    """One regime in one or two sentences."""
+def _margin_decided(regime: dict) -> bool:
+    """Did the margin change this regime's outcome: a leader that clearly beats every other
+    candidate, or a route clearly better than the family mean, yet not by the margin?"""
+    pairs, tied = regime.get("pairs", {}), regime.get("tied") or []
+    names = {k.split("_vs_")[0] for k in pairs}
+    lead = tied[0] if tied else None
+    would_win = lead is not None and all(pairs.get(f"{lead}_vs_{b}", {}).get("clear") for b in names if b != lead)
+    would_beat_mean = any(c.get("clear") and not c.get("beats") for k, c in pairs.items()
+                          if k.endswith("_vs_family_mean"))
+    return bool(would_win or would_beat_mean)
+
+
+def regime_title(name: str, regime: dict) -> str:
     title = REGIME_NAMES.get(name, name)
     if name == "loo" and str(regime.get("scheme", "")).endswith("-fold"):
-        title = (f"{regime['scheme']} cross-validation (interpolation; leave-one-out above {LOO_MAX} members would "
-                 f"refit every route once per member)")
+        title = f"{regime['scheme']} cross-validation (interpolation; leave-one-out above {LOO_MAX} members)"
+    return title
+
+
+def regime_sentence(name: str, regime: dict, unit: str, black_box: str | None = None) -> str:
+    """One regime in one line: who wins, or which routes are equivalent or cannot be told
+    apart, or that nothing beats the family mean; the MAEs; the large misses."""
+    title = regime_title(name, regime)
     if regime.get("skipped"):
         return f"{title}: not run — {regime['skipped']}."
-    routes, winner = regime["routes"], regime["winner"]
-    shown = [r for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy") if routes.get(r)]
-    mean = routes.get("family_mean", {}).get("mae")
-    numbers = f"MAE {_maes(routes, shown)} {unit} (family mean {_g(mean)}; {regime['n_test']} held out)"
-    if winner == "family_mean" or not regime.get("beats_mean"):
-        head = f"{title}: no route beats the family mean — {numbers}."
-    elif winner in NAMES:
-        head = f"{title}: the {NAMES[winner]} wins — {numbers}."
+    kind, routes = regime_choice(regime)
+    names = [SHORT[r] if r != "direct" else route_words(r, black_box).removeprefix("the ") for r in routes]
+    margin = regime.get("margin")
+    within = f" within {_g(margin)} {unit}" if margin is not None else ""
+    if kind == "wins":
+        head = f"{names[0]} wins"
+    elif kind == "mean":
+        head = "nothing beats the family mean by the margin"
+    elif kind == "only":
+        head = f"{names[0]} alone beats the family mean, without beating the other routes by the margin"
+    elif kind == "equivalent":
+        head = f"{' and '.join(names)} equivalent{within}"
     else:
-        tied = [r for r in regime.get("tied", []) if r in NAMES]
-        beaten = [NAMES[r] for r in regime.get("leader_beats", [])]
-        head = (f"{title}: tie between {' and '.join(NAMES[r] for r in tied) or 'the routes'}; these members cannot "
-                f"tell them apart" + (f" (the {NAMES[tied[0]]} does clearly beat the {' and the '.join(beaten)})"
-                                      if tied and beaten else "") + f" — {numbers}.")
-    misses = _misses_text(regime, unit)
-    return head + (" " + misses if misses else "")
+        head = f"{', '.join(names[:-1])} and {names[-1]} cannot be told apart on these members"
+    tail = ""
+    if kind != "wins" and _margin_decided(regime) and margin is not None:
+        tail = (f" (a statistically clear difference smaller than the margin, {_g(margin)} {unit} or a tenth of "
+                f"the better MAE, is not counted)")
+    misses = _misses_text(regime)
+    return f"{title}: {head} — {_numbers(regime, unit)}{tail}." + (" " + misses[:1].upper() + misses[1:]
+                                                                    if misses else "")
 
 
 def weak_link(record: dict, unit: str, tiers=()) -> str:
@@ -71,8 +101,9 @@ def weak_link(record: dict, unit: str, tiers=()) -> str:
     cte, ts = routes.get("curve_on_true_energy"), routes.get("two_stage")
     if not e or not cte or not ts:
         return ""
-    text = (f"The energy stage predicts reaction energies with leave-one-out MAE {_g(e['mae'])} {unit}; fed the "
-            f"true reaction energies the curve reaches MAE {_g(cte['mae'])}")
+    reaction = energy_labels(record.get("energy_kind", "free-energy"))[0]
+    text = (f"The energy stage predicts {reaction} with leave-one-out MAE {_g(e['mae'])} {unit}; fed the computed "
+            f"{reaction} the curve reaches MAE {_g(cte['mae'])}")
     if cte["mae"] >= 0.85 * ts["mae"]:
         return text + "."
     if "xtb" in tiers:
@@ -96,6 +127,28 @@ def energy_link_sentence(record: dict, unit: str) -> str:
             f"without the curve.")
 
 
+def black_box_sentence(record: dict, unit: str) -> str:
+    """Said when the black box is no better than the family mean, or than itself refitted on
+    shuffled barriers, in leave-one-out: a weak opponent makes any win of physics cheap."""
+    loo = record.get("validation", {}).get("loo", {})
+    d, m = record["routes"].get("direct"), record["routes"].get("family_mean")
+    if not d or not m or loo.get("skipped"):
+        return ""
+    bb = _black_box(record)
+    said = []
+    if "direct" not in (loo.get("beats_mean") or []):
+        said.append(f"the family mean ({_g(m['mae'])})")
+    y = record.get("y_randomization")
+    margin = loo.get("margin") or 0.0
+    if y and y.get("direct_mae_mean") is not None and d["mae"] > y["direct_mae_mean"] - margin:
+        said.append(f"itself refitted on shuffled barriers ({_g(y['direct_mae_mean'])})")
+    if not said:
+        return ""
+    who = f"The black box (a {LEARNER_WORDS.get(bb, bb)})" if bb else "The black box"
+    return (f"{who} reaches leave-one-out MAE {_g(d['mae'])} {unit}, no better than {' or than '.join(said)}: "
+            f"these descriptors do not predict the barrier directly, so beating the black box is a low bar here.")
+
+
 def chance_sentence(record: dict, unit: str) -> str:
     y = record.get("y_randomization")
     if not y:
@@ -108,23 +161,28 @@ def chance_sentence(record: dict, unit: str) -> str:
     return ""
 
 
-def verdict_text(record: dict, unit: str, tiers=()) -> str:
-    """The whole verdict: every regime, chance, the weak link, and the regimes' disagreement."""
+def verdict_lines(record: dict, unit: str, tiers=()) -> list[str]:
+    """The verdict, one line per point: the recommendation, every regime, then the black box,
+    chance, the weak link and the regimes' disagreement where they apply."""
     regimes = record.get("validation", {})
+    bb = _black_box(record)
+    lines = [record["recommendation"]] if record.get("recommendation") else []
+    lines.append(energy_link_sentence(record, unit))
     if record["routes"].get("direct") is None:
-        c = record["routes"]["curve_on_true_energy"]
-        parts = [f"Curve-only model: from a computed reaction energy the curve predicts barriers with leave-one-out "
-                 f"MAE {_g(c['mae'])} {unit} (family mean {_g(record['routes']['family_mean']['mae'])})."]
-        parts += [regime_sentence(k, v, unit) for k, v in regimes.items() if k != "loo"]
-        parts.append(energy_link_sentence(record, unit))
-        return " ".join(p for p in parts if p)
-    parts = [energy_link_sentence(record, unit)] + [regime_sentence(k, v, unit) for k, v in regimes.items()]
-    winners = {k: v["winner"] for k, v in regimes.items() if not v.get("skipped")}
-    decided = {k: w for k, w in winners.items() if w in ("two_stage", "hybrid", "direct")}
+        lines += [regime_sentence(k, v, unit) for k, v in regimes.items()]
+        return [x for x in lines if x]
+    lines += [regime_sentence(k, v, unit, bb) for k, v in regimes.items()]
+    decided = {k: v["winner"] for k, v in regimes.items()
+               if not v.get("skipped") and v["winner"] in ("two_stage", "hybrid", "direct")}
     if len(set(decided.values())) > 1:
-        parts.append("The regimes disagree (" + ", ".join(f"{k}: {NAMES[w]}" for k, w in decided.items()) +
+        lines.append("The regimes disagree (" + ", ".join(f"{k}: {SHORT[w]}" for k, w in decided.items()) +
                      "): choose the route by where the members you will predict lie.")
-    parts += [chance_sentence(record, unit)]
+    lines += [black_box_sentence(record, unit), chance_sentence(record, unit)]
     if regimes.get("loo", {}).get("curve_beats_mean") is not False:   # no weak link when there is no chain
-        parts.append(weak_link(record, unit, tiers))
-    return " ".join(p for p in parts if p)
+        lines.append(weak_link(record, unit, tiers))
+    return [x for x in lines if x]
+
+
+def verdict_text(record: dict, unit: str, tiers=()) -> str:
+    """:func:`verdict_lines` as one string, a line each."""
+    return "\n".join(verdict_lines(record, unit, tiers))
