@@ -100,7 +100,26 @@ def _rates(cols: dict, idx, p: dict, opts: ScreenOptions) -> None:
     cols["half_life_high90_s"][idx] = half_life(p["high"], t, kappa)
 
 
-FLAGS = ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside", "off_manifold", "energy_clipped")
+FLAGS = ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside", "off_manifold", "energy_clipped",
+         "reaches_floor")
+#: Flags this module sets itself rather than reading from the model's prediction.
+OWN_FLAGS = ("in_domain", "reaches_floor")
+
+
+def floor_of(curve) -> float | None:
+    """The relation's barrier far downhill (kcal/mol), or None when it has no floor (the line)."""
+    value = float(curve.predict(np.array([-1e6]))[0])
+    return value if np.isfinite(value) and value > -1e5 else None
+
+
+def reaches_floor(low, floor) -> np.ndarray:
+    """Does each row's lower interval bound reach the curve's floor (a number, or each row's own
+    family floor; kcal/mol)? Such rows the model cannot tell from the floor, or from each other."""
+    low = np.asarray(low, dtype=float)
+    if floor is None:
+        return np.zeros(low.shape, dtype=bool)
+    with np.errstate(invalid="ignore"):
+        return np.isfinite(low) & (low <= np.asarray(floor, dtype=float) + 1e-9)
 NUMERIC = ("energy", "energy_sd", "barrier", "low", "high", "barrier_sd", "alpha", "rate_constant_per_s",
            "rate_low90_per_s", "rate_high90_per_s", "half_life_s", "half_life_low90_s", "half_life_high90_s",
            "ad_distance")
@@ -140,12 +159,14 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
         for c, key in (("energy", "energy"), ("energy_sd", "energy_std"), ("barrier", "barrier"), ("low", "low"),
                        ("high", "high"), ("barrier_sd", "barrier_std"), ("alpha", "alpha"),
                        ("ad_distance", "ad_distance"), ("route", "route"),
-                       *((f, f) for f in FLAGS if f != "in_domain")):
+                       *((f, f) for f in FLAGS if f not in OWN_FLAGS)):
             cols[c][idx] = p[key]
         cols["energy_source"][idx] = np.where(p["energy_given"], "given", "predicted")
-        if codes is not None:   # each row's own family floor, for the ranking's floor group
+        if codes is not None:   # each row's own family floor
             cols["row_floor"] = np.full(n, np.nan)
             cols["row_floor"][idx] = model.family_floors()[codes[idx]]
+        cols["reaches_floor"][idx] = reaches_floor(cols["low"][idx], cols["row_floor"][idx] if codes is not None
+                                                   else floor_of(model.curve))
         cols["in_domain"][idx] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
         if model.energy_kind == "free-energy":
             _rates(cols, idx, p, opts)

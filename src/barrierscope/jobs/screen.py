@@ -6,9 +6,10 @@ not depend on where it ran) and written to a part file as it arrives, a bounded 
 chunks in flight (:mod:`..io.parts`). When every chunk is in, rows are ranked and the output
 is assembled atomically.
 
-Ranking: rank 1 is the lowest barrier among the rows that succeeded. Rows whose 90 %
-barrier interval reaches the curve's floor share rank 1: on the floor the model cannot
-order them by barrier, and the summary says so.
+Ranking: rank 1 is the lowest predicted barrier among the rows that succeeded; rows share a
+rank only when their barriers are equal (competition ranking: 1, 2, 2, 4). Whether a row's
+90 % interval reaches the curve's floor, where the model cannot tell it from the floor, is its
+own column (``reaches_floor``) and a count in the summary, never a rank.
 """
 
 from __future__ import annotations
@@ -25,7 +26,7 @@ from ..errors import InputError
 from ..io import parts as partfiles
 from ..io.tables import READ_ERROR, ROW, detect_format, id_column_of, iter_table, require_columns
 from ..views.columns import screen_frame
-from .predict import OK, ScreenOptions, predict_chunk
+from .predict import OK, ScreenOptions, floor_of, predict_chunk
 from .executors import cached_engine, cached_model, ordered_results
 from .records import ScreenSummary, TopRow
 
@@ -40,6 +41,7 @@ class _Tally:
     out_of_domain: int = 0
     energy_given: int = 0
     implausible_half_lives: int = 0
+    at_floor: int = 0
     top: list = field(default_factory=list)
     distances: list = field(default_factory=list)
     notes: Counter = field(default_factory=Counter)
@@ -78,9 +80,8 @@ def _chunk_summary(pred, top: int, structure_columns) -> dict:
             "energy_given": int((pred["energy_source"] == "given").sum()),
             "implausible": int(np.sum(ok & np.isfinite(t) & ((t < HALF_LIFE_BOUNDS[0]) | (t > HALF_LIFE_BOUNDS[1])))),
             "distances": d[np.isfinite(d)][:2000], "barrier": np.where(ok, pred["barrier"].to_numpy(dtype=float), np.nan),
-            "low": pred["low"].to_numpy(dtype=float), "top": _merge_top([], pred, top, structure_columns) if top else [],
-            "notes": note_kinds(pred["notes"]),
-            "floor": pred["row_floor"].to_numpy(dtype=float) if "row_floor" in pred.columns else None}
+            "at_floor": int((ok & pred["reaches_floor"].to_numpy(dtype=bool)).sum()),
+            "top": _merge_top([], pred, top, structure_columns) if top else [], "notes": note_kinds(pred["notes"])}
 
 
 def note_kinds(notes) -> Counter:
@@ -90,26 +91,18 @@ def note_kinds(notes) -> Counter:
     return Counter(part.split(":")[0].strip() for text in arr for part in str(text).split("; "))
 
 
-def floor_of(curve) -> float | None:
-    """The relation's barrier far downhill (kcal/mol), or None when it has no floor (the line)."""
-    value = float(curve.predict(np.array([-1e6]))[0])
-    return value if np.isfinite(value) and value > -1e5 else None
-
-
-def ranks(barrier: np.ndarray, low: np.ndarray, floor) -> tuple[np.ndarray, np.ndarray]:
-    """(1-based ranks by barrier, −1 where there is none; mask of the floor group). Rows whose
-    interval reaches the floor (a number, or each row's own family floor) share rank 1 and the
-    others follow them."""
+def ranks(barrier: np.ndarray) -> np.ndarray:
+    """1-based competition ranks by barrier (equal barriers share the lower rank; −1 where
+    there is none)."""
     rank = np.full(barrier.size, -1, dtype=np.int64)
-    ok = np.isfinite(barrier)
-    with np.errstate(invalid="ignore"):
-        grouped = ok & (low <= np.asarray(floor, dtype=float) + 1e-9) if floor is not None else \
-            np.zeros(barrier.size, dtype=bool)
-    rank[grouped] = 1
-    rest = np.flatnonzero(ok & ~grouped)
-    order = rest[np.argsort(barrier[rest], kind="stable")]
-    rank[order] = np.arange(1, order.size + 1) + int(grouped.sum())
-    return rank, grouped
+    ok = np.flatnonzero(np.isfinite(barrier))
+    order = ok[np.argsort(barrier[ok], kind="stable")]
+    sorted_b = barrier[order]
+    position = np.arange(1, order.size + 1)
+    # Each run of equal barriers takes the rank of its first row.
+    first = np.r_[True, sorted_b[1:] != sorted_b[:-1]] if order.size else np.zeros(0, dtype=bool)
+    rank[order] = np.maximum.accumulate(np.where(first, position, 0))
+    return rank
 
 
 def _merge_top(current: list, pred, k: int, structure_columns) -> list:
@@ -153,6 +146,7 @@ def _count(summary: _Tally, part: dict, top: int) -> None:
     summary.out_of_domain += part["out_of_domain"]
     summary.energy_given += part["energy_given"]
     summary.implausible_half_lives += part["implausible"]
+    summary.at_floor += part["at_floor"]
     summary.notes.update(part.get("notes", {}))
     if len(summary.distances) < 20000:
         summary.distances += part["distances"].tolist()
@@ -189,7 +183,7 @@ def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=Non
     if workers > 1 and total:  # about eight chunks a worker, so no worker waits on a long last one
         chunk_size = int(np.clip(-(-total // (8 * workers)), 1000, chunk_size))
     bar = _Progress(total, progress and sys.stderr.isatty())
-    barriers, lows, floors, parts, header = [], [], [], [], None
+    barriers, parts, header = [], [], None
     try:
         local = getattr(executor, "local", True)
         tasks = _tasks(library, in_fmt, model, opts, content=content, key=key, chunk_size=chunk_size, fmt=out_fmt, top=top, folder=folder, local=local)
@@ -201,16 +195,11 @@ def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=Non
             parts.append(part)
             header = frame.iloc[:0] if header is None else header
             barriers.append(piece["barrier"])
-            lows.append(piece["low"])
-            floors.append(piece["floor"])
             _count(tally, piece, top)
             bar.update(piece["rows"])
         bar.close()
         b = np.concatenate(barriers) if barriers else np.zeros(0)
-        lo = np.concatenate(lows) if lows else np.zeros(0)
-        row_floor = (np.concatenate(floors) if floors and floors[0] is not None else floor)
-        rank, grouped = ranks(b, lo, row_floor)
-        partfiles.assemble(parts, rank, output, out_fmt, header_frame=header)
+        partfiles.assemble(parts, ranks(b), output, out_fmt, header_frame=header)
     finally:
         partfiles.discard(folder)
     seconds = time.monotonic() - t0
@@ -218,7 +207,7 @@ def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=Non
                          rows=tally.rows, ok=tally.ok, errors=dict(tally.errors), out_of_domain=tally.out_of_domain,
                          energy_given=tally.energy_given, seconds=seconds,
                          rows_per_second=tally.rows / seconds if seconds else None, output=str(output), top=tally.top,
-                         floor=floor, family_floors=family_floors, at_floor=int(grouped.sum()),
+                         floor=floor, family_floors=family_floors, at_floor=tally.at_floor,
                          implausible_half_lives=tally.implausible_half_lives, distances=tally.distances,
                          notes=dict(tally.notes))
 

@@ -40,6 +40,7 @@ SCHEMA = (
     ("energy_clipped", "energy_clipped", "text"),
     ("unusual_descriptors", "off_manifold", "text"),
     ("in_domain", "in_domain", "text"),
+    ("reaches_floor", "reaches_floor", "text"),
     ("route", "route", "text"),
     ("notes", "notes", "text"),
 )

@@ -21,8 +21,8 @@ def format_demo(result: dict) -> str:
              f"screen: {screen['rows']} library rows, {screen['ok']} ok, {screen['rows'] - screen['ok']} with errors "
              f"(each explained in its status), {screen['energy_given']} with a computed reaction energy used directly"]
     if screen.get("at_floor"):
-        lines.append(f"  {screen['at_floor']} rows reach the curve's floor ({screen['floor']:.3g} {unit}): the model "
-                     f"cannot order them by barrier")
+        lines.append(f"  {screen['at_floor']} rows have intervals reaching the curve's floor ({screen['floor']:.3g} "
+                     f"{unit}): the model cannot tell them from the floor (column reaches_floor)")
     lines.append(f"lowest predicted barriers, in-domain rows first ({unit}, 90 % interval, half-life at 298.15 K):")
     for r in screen["top"][:5]:
         lines.append(f"  {r['id']}: {r['barrier']:.1f} [{r['low']:.1f}, {r['high']:.1f}]  "

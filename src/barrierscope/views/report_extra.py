@@ -27,7 +27,7 @@ def screen_section(summary, unit: str, mode: str = "", structure_columns=()) -> 
         where = (", ".join(f"{esc(k)} {num(v)}" for k, v in s["family_floors"].items()) if s.get("family_floors")
                  else num(s["floor"]))
         parts.append(f"<p><b>{s['at_floor']} rows have barrier intervals that reach the floor</b> "
-                     f"({where} {esc(unit)}): the model cannot order them by barrier; they share rank 1.</p>")
+                     f"({where} {esc(unit)}): they are ranked by their predicted barrier, but the model cannot tell them from the floor (column <code>reaches_floor</code>).</p>")
     if s.get("top"):
         rows = [[esc(str(r["id"])), depict.cell({c: r["structure"].get(c) for c in structure_columns}, mode),
                  num(r["barrier"]),

@@ -27,10 +27,10 @@ def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) 
     if s.get("at_floor") and s.get("family_floors"):
         floors = ", ".join(f"{k} {v:.3g}" for k, v in s["family_floors"].items())
         lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach their family's floor ({floors} "
-                     f"{unit}): the model cannot order them by barrier; they share rank 1")
+                     f"{unit}): ranked by their barrier, but the model cannot tell them from the floor (column reaches_floor)")
     elif s.get("at_floor"):
         lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach the curve's floor "
-                     f"({s['floor']:.3g} {unit}): the model cannot order them by barrier; they share rank 1")
+                     f"({s['floor']:.3g} {unit}): ranked by their barrier, but the model cannot tell them from the floor (column reaches_floor)")
     if s.get("implausible_half_lives"):
         lines.append(f"{s['implausible_half_lives']} half-lives lie below a picosecond or above the age of the "
                      f"universe: check the units of the model's data (and of --energy) before reading them")
