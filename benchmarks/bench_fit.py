@@ -22,7 +22,7 @@ import tempfile
 import time
 from pathlib import Path
 
-CORE = "CC(=O)c1ccc([*:1])c([*:2])c1"
+from barrierscope.demo.scenario import CORE  # noqa: E402  (the demo family's core)
 FLOOR = "import numpy, scipy.optimize, pandas, rdkit.Chem, sklearn.base, typer"
 
 

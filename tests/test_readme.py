@@ -58,4 +58,4 @@ def test_the_python_example_runs(tmp_path, monkeypatch):
     env = {"ax": Figure().subplots()}
     exec(compile(code, "README.md", "exec"), env)
     assert (tmp_path / "model.json").exists() and (tmp_path / "report.html").exists()
-    assert len(env["hits"]) == 3000 and env["same"].units == "kcal/mol"
+    assert len(env["hits"]) == 2500 and env["same"].units == "kcal/mol"

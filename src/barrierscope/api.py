@@ -3,7 +3,7 @@
     import barrierscope as bs
 
     family = bs.fit(bs.read_table("family.csv"), energy="dG_r", barrier="dG_act",
-                    molecule="smiles", core="CC(=O)c1ccc([*:1])c([*:2])c1")
+                    molecule="smiles", core="O=Cc1ccc([*:1])c([*:2])c1")
     print(family.verdict)
     family.members()              # leave-one-out predictions and flags, one row per member
     family.regimes()              # MAE and RMSE of every route in every validation regime

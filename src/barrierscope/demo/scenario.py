@@ -1,11 +1,16 @@
 """The bundled demo scenario. INVENTED DATA: no chemistry was computed or measured.
 
-A hypothetical reaction family: one reaction run on 3,4-disubstituted acetophenones
-(core ``CC(=O)c1ccc([*:1])c([*:2])c1``: R1 para, R2 meta to the acetyl group). For each
-member, the "computed" reaction free energy is an invented linear map of tabulated Hammett
-constants (the table tier's values, typed from memory of Hansch, Leo and Taft 1991) and
-Crippen molar refractivity, plus Gaussian noise; the "computed" barrier lies on a known
-asymptotic curve plus noise. The truth is written into :data:`TRUTH` and the data card.
+The story (invented): a lab adds one nucleophile to 3,4-disubstituted benzaldehydes (core
+``O=Cc1ccc([*:1])c([*:2])c1``: R1 para, R2 meta to the formyl group) and wants to know which
+aldehydes react within minutes to hours at 25 °C. Electron-withdrawing groups make the
+addition more exergonic and faster; strong ones bring the barrier down to the curve's floor,
+where the substituent no longer matters. For each member the "computed" reaction free energy
+is an invented linear map of tabulated Hammett constants (the table tier's values, typed from
+memory of Hansch, Leo and Taft 1991) and Crippen molar refractivity, plus Gaussian noise; the
+"computed" barrier lies on a known asymptotic curve plus noise. The curve is placed so that
+most of the library has barriers of about 15–30 kcal/mol (half-lives from seconds to years at
+25 °C) and a minority sits near the floor. The truth is written into :data:`TRUTH` and the
+data card.
 
 Everything is deterministic (fixed seeds), so `barrierscope demo` and
 ``datasets/demo/make_demo.py`` produce the same files.
@@ -18,25 +23,25 @@ import pandas as pd
 
 from ..structures.checks import quietly
 
-CORE = "CC(=O)c1ccc([*:1])c([*:2])c1"
+CORE = "O=Cc1ccc([*:1])c([*:2])c1"
 
 #: The invented truth (kcal/mol; coefficients per unit of σ or of MR in cm³/mol).
 TRUTH = {
-    "curve": {"floor": 4.0, "midpoint": -6.0, "width": 5.0},
-    "energy_map": {"intercept": -9.0, "sigma_p_R1": -30.0, "sigma_m_R2": -14.0, "mr_R2": 0.25},
-    "noise": {"reaction_energy": 1.5, "barrier": 1.0},
+    "curve": {"floor": 13.0, "midpoint": 0.0, "width": 4.0},
+    "energy_map": {"intercept": 12.0, "sigma_p_R1": -16.0, "sigma_m_R2": -9.0, "mr_R2": 0.15},
+    "noise": {"reaction_energy": 1.2, "barrier": 0.8},
     "seeds": {"family": 20261201, "library": 7},
     "family_size": 32,
-    "library_size": 3000,
+    "library_size": 2500,
 }
 
 #: Deliberately broken library rows (to show per-row statuses), with what is wrong.
 BROKEN_ROWS = [
-    ("bad-1", "CC(=O)c1ccc(C)c(", "unparseable SMILES"),
+    ("bad-1", "O=Cc1ccc(C)c(", "unparseable SMILES"),
     ("bad-2", "", "empty cell"),
-    ("bad-3", "c1ccccc1C(=O)O", "the core is not in the molecule"),
-    ("bad-4", "CC(=O)c1ccc(C)c(C)c1C", "a substituent at an unlabelled core position"),
-    ("bad-5", "CC(=O)c1ccc2OCOc2c1", "a ring joins the para and meta positions (a methylenedioxy group)"),
+    ("bad-3", "OCc1ccccc1", "the core is not in the molecule (a benzyl alcohol)"),
+    ("bad-4", "O=Cc1ccc(C)c(C)c1C", "a substituent at an unlabelled core position"),
+    ("bad-5", "O=Cc1ccc2OCOc2c1", "a ring joins the para and meta positions (a methylenedioxy group)"),
 ]
 
 
@@ -48,7 +53,7 @@ def _groups():
     from ..structures.core import CoreDecomposer
 
     # Neutral groups only (charged ones would need counter-ions in a real family), and none
-    # that would put a second copy of the core into the molecule (acetyl, benzoyl, phenyl...).
+    # that would put a second copy of the core into the molecule (formyl, benzoyl, phenyl...).
     core = CoreDecomposer(CORE)
     keep = []
     for e in ENTRIES:
@@ -151,8 +156,12 @@ def card_text() -> str:
 Everything in this folder is invented for the demonstration. No chemistry was computed or
 measured; the numbers only behave the way a real family's numbers might.
 
-- `family.csv`: {t['family_size']} members of a hypothetical reaction family run on
-  3,4-disubstituted acetophenones (core `{CORE}`; R1 para, R2 meta to the acetyl group).
+The story: a lab adds one nucleophile to 3,4-disubstituted benzaldehydes and wants to know
+which aldehydes react within minutes to hours at 25 °C. Electron-withdrawing groups make the
+addition more exergonic and faster; strong ones bring the barrier down to the curve's floor.
+
+- `family.csv`: {t['family_size']} members of this hypothetical reaction family
+  (core `{CORE}`; R1 para, R2 meta to the formyl group).
   Columns: `id`, `smiles`, `R1` and `R2` (the group names, for reading only), `dG_r`
   ("computed" reaction free energy, kcal/mol), `dG_act` ("computed" free-energy barrier,
   kcal/mol).
@@ -172,5 +181,6 @@ measured; the numbers only behave the way a real family's numbers might.
 - barrier = F + W·ln(1 + exp((dE − M)/W)) + N(0, {n['barrier']}²) with the true
   F = {c['floor']}, M = {c['midpoint']}, W = {c['width']} kcal/mol;
 - family members were chosen to spread σp(R1) over the table's range, so that the reaction
-  energies span the curved region of the curve.
+  energies span the curved region of the curve; most library rows have barriers of about
+  15–30 kcal/mol (half-lives from seconds to years at 25 °C), a minority sit near the floor.
 """

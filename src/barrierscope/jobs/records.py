@@ -69,6 +69,20 @@ class HammettRecord(Record):
     basis: str = q.text()
     left_out_positions: list = q.texts()
     n_missing: int = q.count()
+    #: the Σσ range the line and ρ above hold for (the steeper segment's when the series bends)
+    rho_range: list = q.dimensionless(factory=list)
+    #: ρ of one straight line through every member (what the plot would say without the bend test)
+    rho_all: float | None = q.quantity(q.RHO, None)
+    #: the line against two segments (curves.hammett.bend_test): AICc of each and the F-test p
+    bend: bool = q.flag(False)
+    aicc_line: float | None = q.quantity(q.LOGLIK, None)
+    aicc_bend: float | None = q.quantity(q.LOGLIK, None)
+    bend_f_p: float | None = q.probability(None)
+    #: where the series bends: "floor" (levels off toward the curve's floor) or "slope change"
+    bend_kind: str | None = q.text(None, absent=True)
+    bend_at: float | None = q.dimensionless(None, absent=True)
+    bend_intercept: float | None = q.energy(None, absent=True)
+    bend_slopes: list | None = q.energy(None, absent=True)
 
 
 @dataclass(frozen=True)
@@ -137,6 +151,8 @@ class TopRow(Record):
     energy_source: str = q.text()
     in_domain: bool = q.flag()
     route: str = q.text()
+    #: the 90 % interval reaches the curve's floor: not to be told from the floor
+    reaches_floor: bool = q.flag(False)
     structure: dict = q.quantity(q.TEXT, factory=dict)
 
 
@@ -159,6 +175,8 @@ class ScreenSummary(Record):
     floor: float | None = q.energy()
     family_floors: dict = q.energy(factory=dict)
     at_floor: int = q.count()
+    #: ok rows per half-life band at the screen's temperature (free-energy models only)
+    half_life_bands: dict = q.quantity(q.COUNT, factory=dict)
     implausible_half_lives: int = q.count()
     distances: list = q.quantity(q.DISTANCE, factory=list)
     notes: dict = q.quantity(q.COUNT, factory=dict)

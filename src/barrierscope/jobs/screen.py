@@ -42,17 +42,33 @@ class _Tally:
     energy_given: int = 0
     implausible_half_lives: int = 0
     at_floor: int = 0
+    half_life_bands: Counter = field(default_factory=Counter)
     top: list = field(default_factory=list)
     distances: list = field(default_factory=list)
     notes: Counter = field(default_factory=Counter)
 
 
-TOP_FIELDS = ("id", "barrier", "low", "high", "alpha", "half_life_s", "energy", "energy_source", "in_domain", "route")
+TOP_FIELDS = ("id", "barrier", "low", "high", "alpha", "half_life_s", "energy", "energy_source", "in_domain", "route",
+              "reaches_floor")
 
 #: Half-lives outside these bounds (s) are physically implausible for a thermal reaction in a
 #: flask: below a picosecond (faster than a molecular vibration), above the age of the universe
 #: (about 4.35e17 s, Planck 2018 cosmology; rounded).
 HALF_LIFE_BOUNDS = (1e-12, 4.35e17)
+#: Half-life bands of the summary (upper bounds, s): what a bench chemist plans around —
+#: done on mixing, within the working day, overnight to a week, slower than a month, a year.
+HALF_LIFE_BANDS = (("under a second", 1.0), ("a second to an hour", 3600.0), ("an hour to a day", 86400.0),
+                   ("a day to a month", 30 * 86400.0), ("a month to a year", 365.25 * 86400.0),
+                   ("over a year", np.inf))
+
+
+def half_life_bands(t) -> dict[str, int]:
+    """Rows per :data:`HALF_LIFE_BANDS` band of the finite half-lives ``t`` (s)."""
+    t = np.asarray(t, dtype=float)
+    t = t[np.isfinite(t)]
+    edges = [0.0] + [hi for _, hi in HALF_LIFE_BANDS]
+    return {name: int(np.sum((t >= lo) & (t < hi))) for (name, _), lo, hi in zip(HALF_LIFE_BANDS, edges[:-1],
+                                                                                  edges[1:])}
 
 
 def screen_chunk(args):
@@ -81,6 +97,7 @@ def _chunk_summary(pred, top: int, structure_columns) -> dict:
             "implausible": int(np.sum(ok & np.isfinite(t) & ((t < HALF_LIFE_BOUNDS[0]) | (t > HALF_LIFE_BOUNDS[1])))),
             "distances": d[np.isfinite(d)][:2000], "barrier": np.where(ok, pred["barrier"].to_numpy(dtype=float), np.nan),
             "at_floor": int((ok & pred["reaches_floor"].to_numpy(dtype=bool)).sum()),
+            "half_life_bands": half_life_bands(t[ok]),
             "top": _merge_top([], pred, top, structure_columns) if top else [], "notes": note_kinds(pred["notes"])}
 
 
@@ -120,7 +137,7 @@ def _merge_top(current: list, pred, k: int, structure_columns) -> list:
 
 def _top_row(values, structures) -> TopRow:
     d = dict(zip(TOP_FIELDS, values[:len(TOP_FIELDS)]))
-    d["in_domain"] = bool(d["in_domain"])
+    d["in_domain"], d["reaches_floor"] = bool(d["in_domain"]), bool(d["reaches_floor"])
     return TopRow(**d, structure={c: str(v) for c, v in zip(structures, values[len(TOP_FIELDS):])})
 
 
@@ -147,6 +164,7 @@ def _count(summary: _Tally, part: dict, top: int) -> None:
     summary.energy_given += part["energy_given"]
     summary.implausible_half_lives += part["implausible"]
     summary.at_floor += part["at_floor"]
+    summary.half_life_bands.update(part["half_life_bands"])
     summary.notes.update(part.get("notes", {}))
     if len(summary.distances) < 20000:
         summary.distances += part["distances"].tolist()
@@ -208,6 +226,8 @@ def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=Non
                          energy_given=tally.energy_given, seconds=seconds,
                          rows_per_second=tally.rows / seconds if seconds else None, output=str(output), top=tally.top,
                          floor=floor, family_floors=family_floors, at_floor=tally.at_floor,
+                         half_life_bands=({k: tally.half_life_bands.get(k, 0) for k, _ in HALF_LIFE_BANDS}
+                                          if sum(tally.half_life_bands.values()) else {}),
                          implausible_half_lives=tally.implausible_half_lives, distances=tally.distances,
                          notes=dict(tally.notes))
 

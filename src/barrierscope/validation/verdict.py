@@ -105,6 +105,13 @@ def regime_choice(regime) -> tuple[str, list[str]]:
     return ("equivalent" if all(r in same for r in tied[1:]) else "tie"), tied
 
 
+def _either(names: list[str]) -> str:
+    """"the two-stage route or the hybrid route" → "the two-stage or the hybrid route"."""
+    if len(names) > 1 and all(n.endswith(" route") for n in names):
+        names = [n.removesuffix(" route") for n in names[:-1]] + [names[-1]]
+    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " or " + names[-1]
+
+
 def recommendation(regimes: dict, *, primary: str, black_box: str | None = None) -> str:
     """One sentence of advice from the regimes' decisions: which route to use for members like
     those computed, and beyond them in each direction (and for new kinds of substituent); or
@@ -126,7 +133,7 @@ def recommendation(regimes: dict, *, primary: str, black_box: str | None = None)
             action = f"use {names[0]} (the only route that beats the family mean there)"
         else:
             why = "equivalent within the margin" if kind == "equivalent" else "these members cannot tell them apart"
-            action = f"use {' or '.join(names)} ({why})"
+            action = f"use {_either(names)} ({why})"
         any_route = any_route or kind != "mean"
         advice.setdefault(action, []).append(where)
     if not advice:

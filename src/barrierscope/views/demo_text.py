@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from ..kinetics import format_duration
 from .cautions import CAUTION
+from .screen_text import bands_line
 from .suggest_text import suggest_json
 from .units import in_unit
 from .verdict import verdict_lines
@@ -23,10 +24,13 @@ def format_demo(result: dict) -> str:
     if screen.get("at_floor"):
         lines.append(f"  {screen['at_floor']} rows have intervals reaching the curve's floor ({screen['floor']:.3g} "
                      f"{unit}): the model cannot tell them from the floor (column reaches_floor)")
+    if bands_line(screen):
+        lines.append("  " + bands_line(screen))
     lines.append(f"lowest predicted barriers, in-domain rows first ({unit}, 90 % interval, half-life at 298.15 K):")
     for r in screen["top"][:5]:
         lines.append(f"  {r['id']}: {r['barrier']:.1f} [{r['low']:.1f}, {r['high']:.1f}]  "
-                     f"{format_duration(r['half_life_s'])}" + ("" if r["in_domain"] else "  (out of domain)"))
+                     f"{format_duration(r['half_life_s'])}" + ("" if r["in_domain"] else "  (out of domain)") +
+                     ("  (reaches the floor)" if r.get("reaches_floor") else ""))
     lines += ["", "compute next:"]
     lines += [f"  {n}. {p['id']}: {p['reason']}" for n, p in enumerate(advice["picks"], start=1)]
     lines += ["", f"outputs in {result['out']}/:", "  report.html      the report (open in a browser)",

@@ -135,7 +135,7 @@ def _diagnostics(model, rec, unit, screen, *, figures_dir) -> str:
         parts.append("<h2>Leave-one-out predictions</h2>")
         parts.append(figure(fg.parity_png(rec["members"], rec["routes"], unit), "Leave-one-out predictions against the "
                             "computed barriers, shared axes.", "parity", figures_dir))
-        parts.append(figure(fg.residual_png(rec["members"], unit), "Leave-one-out residuals against the reaction "
+        parts.append(figure(fg.residual_png(rec["members"], unit, rec.get("energy_kind", "free-energy")), "Leave-one-out residuals against the reaction "
                             "energy.", "residuals", figures_dir))
     imp = rec.get("energy_stage_importance")
     if imp:

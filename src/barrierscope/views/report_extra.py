@@ -27,16 +27,21 @@ def screen_section(summary, unit: str, mode: str = "", structure_columns=()) -> 
         where = (", ".join(f"{esc(k)} {num(v)}" for k, v in s["family_floors"].items()) if s.get("family_floors")
                  else num(s["floor"]))
         parts.append(f"<p><b>{s['at_floor']} rows have barrier intervals that reach the floor</b> "
-                     f"({where} {esc(unit)}): they are ranked by their predicted barrier, but the model cannot tell them from the floor (column <code>reaches_floor</code>).</p>")
+                     f"({where} {esc(unit)}): they are ranked by their predicted barrier, but the model cannot tell "
+                     f"them from the floor (column <code>reaches_floor</code>).</p>")
+    if s.get("half_life_bands"):
+        parts.append(f"<p>Half-lives at {s['temperature']:g} K from the predicted barriers (ok rows):</p>" +
+                     table(list(s["half_life_bands"]), [[str(v) for v in s["half_life_bands"].values()]]))
     if s.get("top"):
         rows = [[esc(str(r["id"])), depict.cell({c: r["structure"].get(c) for c in structure_columns}, mode),
                  num(r["barrier"]),
                  f"{num(r['low'])} to {num(r['high'])}", num(r["alpha"], 2),
                  esc(format_duration(r["half_life_s"])) if r["half_life_s"] == r["half_life_s"] else "—",
-                 "yes" if r["in_domain"] else "<span class='flag'>no</span>"] for r in s["top"]]
+                 "yes" if r["in_domain"] else "<span class='flag'>no</span>",
+                 "yes" if r.get("reaches_floor") else "no"] for r in s["top"]]
         parts.append("<p>Lowest barriers, in-domain rows first:</p>")
         parts.append(table(["id", "structure", f"barrier ({esc(unit)})", "90 % interval", "α", "half-life",
-                            "in domain"], rows))
+                            "in domain", "reaches the floor"], rows))
     return "".join(parts)
 
 
@@ -52,7 +57,8 @@ def picks_section(result, mode: str = "") -> str:
 
 
 def hammett_section(hammett, barrier_kcal, unit: str, figures_dir=None) -> str:
-    """The Hammett plot with ρ and its interval; ``hammett`` a HammettRecord (kcal/mol) or None."""
+    """The Hammett plot with ρ and its interval, and whether the series bends; ``hammett`` a
+    HammettRecord (kcal/mol) or None."""
     from .figures import hammett_png
     from .html import figure
 
@@ -62,17 +68,36 @@ def hammett_section(hammett, barrier_kcal, unit: str, figures_dir=None) -> str:
     used = ", ".join(f"{esc(p)}: {esc(c)}" for p, c in h["constants"].items())
     lo, hi = h["barrier_per_sigma_ci95"]
     rlo, rhi = h["rho_ci95"]
+    r0, r1 = h["rho_range"]
     text = (f"<h2>Hammett plot</h2><p>Σσ sums the table constants of each position ({used}), chosen from "
             f"{esc(h['basis'])}" + (f"; ortho positions left out ({esc(', '.join(h['left_out_positions']))})"
                                    if h["left_out_positions"] else "") +
-            f". {h['n']} members with every σ ({h['n_missing']} without). Barrier = {num(h['barrier_at_zero_sigma'])} "
-            f"{'+' if h['barrier_per_sigma'] >= 0 else '−'} {num(abs(h['barrier_per_sigma']))}·Σσ {esc(unit)} "
-            f"(95 %: {num(lo)} to {num(hi)} per unit σ; R² {num(h['r2'], 2)}); from the Eyring equation at "
-            f"{num(h['temperature'], 5)} K, ρ = {num(h['rho'], 3)} (95 %: {num(rlo, 3)} to {num(rhi, 3)}): "
-            f"{'negative: electron donors speed the step' if h['rho'] < 0 else 'positive: electron acceptors speed the step'}"
-            f" (L. P. Hammett, J. Am. Chem. Soc. 1937, 59, 96).</p>")
-    return text + figure(hammett_png(hammett, barrier_kcal, unit), "Barrier and log k against Σσ with the "
-                         "least-squares line.", "hammett", figures_dir)
+            f". {h['n']} members with every σ{'' if not h['bend'] else ' on the straight part'} "
+            f"({h['n_missing']} without σ).</p>")
+    if h["bend"]:
+        where = ("levels off toward the curve's floor: there the barrier stops responding to the substituents, "
+                 "which is not necessarily a change of mechanism" if h.get("bend_kind") == "floor" else
+                 "changes slope: a change of rate-determining step is one reading, to be checked by computing both "
+                 "steps")
+        text += (f"<p><b>The series bends at Σσ ≈ {num(h['bend_at'], 2)}.</b> Two straight segments describe it "
+                 f"better than one line (AICc {num(h['aicc_bend'], 4)} against {num(h['aicc_line'], 4)}; F-test p = "
+                 f"{num(h['bend_f_p'], 2)}, optimistic as the break point is chosen from the data): the barrier "
+                 f"{where}. One line through every member would claim ρ = {num(h['rho_all'], 3)}; the ρ below is the "
+                 f"straight part's alone.</p>")
+    else:
+        test = (f" (one line against two segments: AICc {num(h['aicc_line'], 4)} against {num(h['aicc_bend'], 4)}; "
+                f"no bend)" if h.get("aicc_line") is not None else "")
+        text += f"<p>The series is straight over its range{test}.</p>"
+    text += (f"<p>For Σσ from {num(r0, 2)} to {num(r1, 2)}: barrier = {num(h['barrier_at_zero_sigma'])} "
+             f"{'+' if h['barrier_per_sigma'] >= 0 else '−'} {num(abs(h['barrier_per_sigma']))}·Σσ {esc(unit)} "
+             f"(95 %: {num(lo)} to {num(hi)} per unit σ; R² {num(h['r2'], 2)}); from the Eyring equation at "
+             f"{num(h['temperature'], 5)} K, ρ = {num(h['rho'], 3)} (95 %: {num(rlo, 3)} to {num(rhi, 3)}): "
+             f"{'negative: electron donors speed the step' if h['rho'] < 0 else 'positive: electron acceptors speed the step'}"
+             f" (L. P. Hammett, J. Am. Chem. Soc. 1937, 59, 96). Outside that range ρ does not apply.</p>")
+    caption = ("Barrier and log k against Σσ: the straight part's line, the two segments and the bend." if h["bend"]
+               else "Barrier and log k against Σσ with the least-squares line.")
+    return text + figure(hammett_png(hammett, barrier_kcal, unit), caption + " log k is capped at k_BT/h (a zero "
+                         "barrier), which no line may pass.", "hammett", figures_dir)
 
 
 def families_section(record, model, unit: str, figures_dir=None) -> str:

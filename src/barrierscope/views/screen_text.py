@@ -27,19 +27,24 @@ def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) 
     if s.get("at_floor") and s.get("family_floors"):
         floors = ", ".join(f"{k} {v:.3g}" for k, v in s["family_floors"].items())
         lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach their family's floor ({floors} "
-                     f"{unit}): ranked by their barrier, but the model cannot tell them from the floor (column reaches_floor)")
+                     f"{unit}): ranked by their barrier, but the model cannot tell them from the floor "
+                     f"(column reaches_floor)")
     elif s.get("at_floor"):
         lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach the curve's floor "
-                     f"({s['floor']:.3g} {unit}): ranked by their barrier, but the model cannot tell them from the floor (column reaches_floor)")
+                     f"({s['floor']:.3g} {unit}): ranked by their barrier, but the model cannot tell them from the "
+                     f"floor (column reaches_floor)")
     if s.get("implausible_half_lives"):
         lines.append(f"{s['implausible_half_lives']} half-lives lie below a picosecond or above the age of the "
                      f"universe: check the units of the model's data (and of --energy) before reading them")
+    if bands_line(s):
+        lines.append(bands_line(s))
     if s.get("top"):
         lines.append(f"lowest barriers, in-domain rows first ({unit}, 90 % interval; half-life at "
                      f"{s['temperature']:g} K):")
         for r in s["top"]:
             half = format_duration(r["half_life_s"]) if r.get("half_life_s") == r.get("half_life_s") else "—"
-            flag = "in domain" if r["in_domain"] else "OUT OF DOMAIN"
+            flag = ("in domain" if r["in_domain"] else "OUT OF DOMAIN") + ("; reaches the floor" if r.get("reaches_floor")
+                                                                         else "")
             lines.append(f"  {r['id']}: {r['barrier']:.2f} [{r['low']:.2f}, {r['high']:.2f}]  {half}  {flag}")
     if s.get("notes"):
         kinds = sorted(s["notes"].items(), key=lambda kv: -kv[1])
@@ -48,3 +53,12 @@ def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) 
     lines.append(f"written to {s['output']}")
     lines.append(CAUTION)
     return "\n".join(lines)
+
+
+def bands_line(s: dict) -> str:
+    """"half-lives at 298 K: 12 under a second, 300 a second to an hour, ..." or ""."""
+    bands = s.get("half_life_bands") or {}
+    if not bands:
+        return ""
+    return (f"half-lives at {s['temperature']:g} K (predicted barriers, ok rows): " +
+            ", ".join(f"{v} {k}" for k, v in bands.items()))

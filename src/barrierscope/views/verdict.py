@@ -76,7 +76,6 @@ def regime_sentence(name: str, regime: dict, unit: str, black_box: str | None = 
     kind, routes = regime_choice(regime)
     names = [SHORT[r] if r != "direct" else route_words(r, black_box).removeprefix("the ") for r in routes]
     margin = regime.get("margin")
-    within = f" within {_g(margin)} {unit}" if margin is not None else ""
     if kind == "wins":
         head = f"{names[0]} wins"
     elif kind == "mean":
@@ -84,13 +83,12 @@ def regime_sentence(name: str, regime: dict, unit: str, black_box: str | None = 
     elif kind == "only":
         head = f"{names[0]} alone beats the family mean, without beating the other routes by the margin"
     elif kind == "equivalent":
-        head = f"{' and '.join(names)} equivalent{within}"
+        head = f"{' and '.join(names)} equivalent within the margin"
     else:
         head = f"{', '.join(names[:-1])} and {names[-1]} cannot be told apart on these members"
     tail = ""
     if kind != "wins" and _margin_decided(regime) and margin is not None:
-        tail = (f" (a statistically clear difference smaller than the margin, {_g(margin)} {unit} or a tenth of "
-                f"the better MAE, is not counted)")
+        tail = f" (a clear but smaller difference is not counted: the margin is {_g(margin)} {unit} or a tenth of the better MAE)"
     misses = _misses_text(regime)
     return f"{title}: {head} — {_numbers(regime, unit)}{tail}." + (" " + misses[:1].upper() + misses[1:]
                                                                     if misses else "")
@@ -108,11 +106,11 @@ def weak_link(record: dict, unit: str, tiers=()) -> str:
         return text + "."
     if "xtb" in tiers:
         advice = ("computing reaction energies for the members you screen (screen --energy) pays more than any "
-                  "descriptor: the xtb tier is already in use")
+                  "descriptor (the xtb tier is already in use)")
     else:
         advice = ("computed reaction energies pay: your own (screen --energy), or GFN2-xTB ones as a descriptor "
                   "(reaction input with --tiers 2d,xtb)")
-    return text + f" — the energy stage is the weak link: {advice}."
+    return text + f". The energy stage is the weak link, so {advice}."
 
 
 def energy_link_sentence(record: dict, unit: str) -> str:
