@@ -153,3 +153,13 @@ def test_jackknife_plus_intervals_are_measured_stored_and_used(family_csv, tmp_p
     # Same point predictions, other intervals: the screen uses the stored jackknife+ ones.
     assert np.allclose(jk["barrier_kcal_mol"], plain_["barrier_kcal_mol"])
     assert not np.allclose(jk["barrier_low90_kcal_mol"], plain_["barrier_low90_kcal_mol"])
+
+
+@pytest.mark.parametrize("kind, symbol", [("enthalpy", "ΔH"), ("electronic", "ΔE"), ("free-energy", "ΔG")])
+def test_labels_follow_the_kind_of_energy(family_csv, tmp_path, kind, symbol):
+    r = runner.invoke(app, ["fit", str(family_csv), "--substituents", "R1,R2", "--energy", "dE", "--barrier", "dG",
+                            "--kind", kind, "-o", str(tmp_path / "m.json"), "--shuffles", "0", "--learner", "ridge"])
+    assert r.exit_code == 0, r.output
+    assert f"energy stage ({symbol}_r)" in r.stdout
+    others = {"ΔH", "ΔE", "ΔG"} - {symbol}
+    assert not any(o in r.stdout for o in others) and "dE‡" not in r.stdout

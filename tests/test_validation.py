@@ -278,3 +278,31 @@ def test_the_verdict_says_so_when_the_barrier_does_not_follow_the_reaction_energ
                       opts=ValidationOptions(n_shuffles=0, regimes=("loo",)))
     assert record.validation["loo"].curve_beats_mean is True
     assert "does not follow" not in verdict_text(in_unit(record, "kcal/mol"), "kcal/mol")
+
+
+def test_gp_hyper_parameters_never_see_the_member_they_predict(monkeypatch):
+    # Leave-one-out of 40 members searches GP hyper-parameters once per block of splits; every
+    # search must leave out every member its block holds out. The targets are the members'
+    # own indices, so each search's targets say which members it saw.
+    from barrierscope.validation import routes
+    from barrierscope.validation.splits import loo_splits
+
+    seen = []
+    real_fit = routes.DescriptorRegressor.fit
+
+    def spy(self, X, y, warm_start=None):
+        if self.learner == "gp" and not (isinstance(warm_start, dict) and warm_start.get("fixed")):
+            seen.append(set(np.asarray(y, dtype=int).tolist()))
+        return real_fit(self, X, y, warm_start=warm_start)
+
+    monkeypatch.setattr(routes.DescriptorRegressor, "fit", spy)
+    rng = np.random.default_rng(0)
+    X = rng.normal(size=(40, 3))
+    y = np.arange(40.0)
+    splits = loo_splits(40)
+    starts = routes._gp_block_hypers(X, [y[s.train] for s in splits], splits, random_state=0, warm=None)
+    assert len(seen) == routes.GP_BLOCKS and all(st["fixed"] for st in starts)
+    blocks = np.array_split(np.arange(40), routes.GP_BLOCKS)
+    for block, members in zip(blocks, seen):
+        held = {int(splits[k].test[0]) for k in block}
+        assert not held & members and len(members) == 40 - len(held)

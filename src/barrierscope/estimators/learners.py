@@ -214,6 +214,9 @@ def _gp_fit(X: np.ndarray, y: np.ndarray, random_state: int = 0, warm: dict | No
     ``n_restarts_optimizer=2`` with the same ``random_state`` draws them), or one local
     search from ``warm`` (a fitted GP state: validation refits start from the family's own
     optimum, a bounded cost)."""
+    if warm and warm.get("fixed"):       # hyper-parameters chosen elsewhere (a validation block's search)
+        hyper = {k: float(warm[k]) for k in ("constant", "length_scale", "noise")}
+        return _gp_state(X, y, hyper, 0)
     if warm:
         starts = [np.log([warm["constant"], warm["length_scale"], warm["noise"]])]
     else:

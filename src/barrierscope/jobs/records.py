@@ -223,6 +223,7 @@ class SuggestRecord(Record):
     goal: str = q.text()
     k: int = q.count()
     units: str = q.text("kcal/mol")
+    energy_kind: str = q.text("free-energy")
     candidates: int = q.count()
     considered: int = q.count()
     already_computed: int = q.count()

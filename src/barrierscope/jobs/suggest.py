@@ -102,7 +102,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
                 unusual_descriptors=bool(sub.loc[p["index"], "off_manifold"]),
                 structure={c: str(sub.loc[p["index"], c]) for c in model.spec.columns if c in sub.columns})
            for p in picks]
-    return SuggestRecord(goal=goal, k=k, units=model.units, candidates=int(len(frame)), considered=int(pool.sum()),
+    return SuggestRecord(goal=goal, k=k, units=model.units, energy_kind=model.energy_kind, candidates=int(len(frame)), considered=int(pool.sum()),
                          already_computed=int(done.sum()),
                          already_computed_ids=frame.loc[done, "id"].astype(str).tolist(),
                          left_out={str(kind): int(v) for kind, v in frame.loc[~ok, "error_kind"].value_counts().items()},

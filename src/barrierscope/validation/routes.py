@@ -213,9 +213,11 @@ def _fold_fits(X, targets, splits, learner, *, random_state, oof: bool = False, 
                  "Zt": design.Zt[k], "oof": per_split[k] - r["loo"][k], "inner_mse": float(r["mse"][k]),
                  "learner": "ridge"} for k in range(len(splits))]
     out = []
-    for s, t in zip(splits, per_split):
+    starts = _gp_block_hypers(X, per_split, splits, random_state=random_state, warm=warm) if learner == "gp" \
+        else [warm] * len(splits)
+    for s, t, start in zip(splits, per_split, starts):
         Xtr, Xte = rows(X, s.train), rows(X, s.test)
-        reg = DescriptorRegressor(learner, random_state, effort="refit").fit(Xtr, t, warm_start=warm)
+        reg = DescriptorRegressor(learner, random_state, effort="refit").fit(Xtr, t, warm_start=start)
         pred, sd = reg.predict(Xte, return_std=True)
         fit = {"pred": pred, "sd": sd, "excess": reg.manifold_excess(Xte), "Z": reg.standardise(Xtr),
                "Zt": reg.standardise(Xte), "capped": int(reg.state_.get("capped", 0)),
@@ -223,6 +225,31 @@ def _fold_fits(X, targets, splits, learner, *, random_state, oof: bool = False, 
         if oof:
             fit["oof"] = out_of_fold_energy(Xtr, t, learner, random_state, fitted=reg)
         out.append(fit)
+    return out
+
+
+#: Above this many splits a Gaussian process's hyper-parameters are searched once per block of
+#: splits (this many blocks), on the members none of the block's splits holds out; each split
+#: then fits its GP at its block's hyper-parameters. No held-out member ever informs the
+#: hyper-parameters that predict it, and leave-one-out of 100 members runs 10 searches, not 100.
+GP_BLOCKS = 10
+
+
+def _gp_block_hypers(X, per_split, splits, *, random_state, warm) -> list:
+    """Each split's fixed GP hyper-parameters (``{"kind": "gp", ..., "fixed": True}``) from its
+    block's search, or the warm start itself for each split when there are few splits."""
+    if len(splits) <= GP_BLOCKS:
+        return [warm] * len(splits)
+    out = [None] * len(splits)
+    for block in np.array_split(np.arange(len(splits)), GP_BLOCKS):
+        held = np.unique(np.concatenate([splits[k].test for k in block]))
+        first = splits[block[0]]
+        keep = np.isin(first.train, held, invert=True)      # the block's members none of its splits holds out
+        reg = DescriptorRegressor("gp", random_state, effort="refit").fit(rows(X, first.train[keep]),
+                                                                          per_split[block[0]][keep], warm_start=warm)
+        hyper = {k: reg.state_[k] for k in ("constant", "length_scale", "noise")}
+        for k in block:
+            out[k] = {"kind": "gp", **hyper, "fixed": True, "capped": int(reg.state_.get("capped", 0))}
     return out
 
 
@@ -237,6 +264,18 @@ def _auto_fold_fits(X, per_split, splits, *, random_state, oof, designs, warm) -
                              warm={"kind": "gp", **hyper} if (name == "gp" and hyper) else None)
             for name in names}
     return [min((fits[name][k] for name in names), key=lambda f: f["inner_mse"]) for k in range(len(splits))]
+
+
+def _family_fit(X, target, learner: str, random_state: int, designs: dict | None):
+    """The learner fitted on every member (the splits' warm start), kept in ``designs`` so the
+    regimes of one validation, which share X and the targets, fit it once."""
+    key = ("family", id(X), learner, random_state, np.asarray(target, dtype=float).tobytes())
+    if designs is not None and key in designs:
+        return designs[key]
+    reg = DescriptorRegressor(learner, random_state).fit(X, target)
+    if designs is not None:
+        designs[key] = reg
+    return reg
 
 
 def _design(X, splits, designs):
@@ -294,8 +333,8 @@ def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, l
     # optimum (a warm start, as for the curve): a bounded cost, and no split sees another's members.
     warm_e = warm_d = None
     if learner != "ridge":
-        warm_e = DescriptorRegressor(learner, random_state).fit(X, x)
-        warm_d = DescriptorRegressor(learner, random_state).fit(X, y) if "direct" in routes else None
+        warm_e = _family_fit(X, x, learner, random_state, designs)
+        warm_d = _family_fit(X, y, learner, random_state, designs) if "direct" in routes else None
     energy_fits = _fold_fits(X, x, splits, learner, random_state=random_state, oof="hybrid" in routes, designs=designs,
                              warm=warm_e)
     direct_fits = (_fold_fits(X, y, splits, learner, random_state=random_state, designs=designs, warm=warm_d)

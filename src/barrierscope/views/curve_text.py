@@ -25,14 +25,14 @@ def identifiability_text(d: dict, unit: str) -> str:
     verb = "is" if len(d["unpinned"]) == 1 else "are"
     return (f"The curvature is not determined: the reaction energies span only {d['span']:.3g} {unit} "
             f"and {names} {verb} not pinned (the 95 % interval runs to the search bound). What these "
-            f"data determine is the tangent at dE = {t['center']:.3g} {unit}: barrier "
+            f"data determine is the tangent at a reaction energy of {t['center']:.3g} {unit}: barrier "
             f"{t['barrier_at_center']:.3g} {unit}, slope (Leffler α) {t['alpha']:.3f} "
             f"(95 %: {lo:.3f} to {hi:.3f}). Read F, M and W only after adding members further up- or downhill.")
 
 
 def marcus_note(n_outside: int) -> str:
-    return (f"{n_outside} member(s) lie outside |dE| < λ, where the Marcus parabola has no meaning for a thermal "
-            f"group transfer; the fit continues with its limits there (barrier w downhill, w + dE uphill)")
+    return (f"{n_outside} member(s) lie outside |reaction energy| < λ, where the Marcus parabola has no meaning for a thermal "
+            f"group transfer; the fit continues with its limits there (barrier w downhill, w + the reaction energy uphill)")
 
 
 def curve_json(record: dict, unit: str) -> dict:
@@ -69,8 +69,8 @@ def _asymptotic_lines(a: dict, unit: str) -> list[str]:
         lines.append(f"  {names.get(k, k):<11} {_fmt(v, 4):>9}   [{'≤' if opened[0] else ''}{_fmt(lo, 4)}, "
                      f"{'≥' if opened[1] else ''}{_fmt(hi, 4)}]")
     d, rev = a["derived"], a["reverse"]
-    lines.append(f"  uphill excess U = F − M = {_fmt(d['uphill_excess'], 4)}; intrinsic barrier (dE = 0) = "
-                 f"{_fmt(d['intrinsic_barrier'], 4)}; Leffler α at dE = 0: {_fmt(d['alpha_at_zero'], 3)}")
+    lines.append(f"  uphill excess U = F − M = {_fmt(d['uphill_excess'], 4)}; intrinsic barrier (reaction energy 0) = "
+                 f"{_fmt(d['intrinsic_barrier'], 4)}; Leffler α at reaction energy 0: {_fmt(d['alpha_at_zero'], 3)}")
     lines.append(f"  reverse direction: floor {_fmt(rev['floor'], 4)}, midpoint {_fmt(rev['midpoint'], 4)}, "
                  f"width {_fmt(rev['width'], 4)}")
     corr = np.asarray(a["correlation"])

@@ -11,7 +11,7 @@ import numpy as np
 from .cautions import CAUTION
 from .units import in_unit
 
-ROUTES = {"two_stage": "two-stage through the joint curves", "joint": "joint curves on the true dE", "separate": "each family alone", "pooled": "one curve for all",
+ROUTES = {"two_stage": "two-stage through the joint curves", "joint": "joint curves on computed energies", "separate": "each family alone", "pooled": "one curve for all",
           "family_mean": "family mean"}
 DERIVED = {"uphill_excess": "uphill excess", "intrinsic_barrier": "intrinsic barrier", "alpha_at_centre": "α at centre"}
 

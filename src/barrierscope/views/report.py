@@ -113,7 +113,7 @@ def _curve(model, rec, comparison, unit, *, picks, figures_dir) -> str:
     if curve.relation_.name == "asymptotic":
         d = c["derived"]
         parts.append(f"<p>Uphill excess U = F − M = {num(d['uphill_excess'], 4)} {esc(unit)}; intrinsic barrier "
-                     f"(dE = 0) = {num(d['intrinsic_barrier'], 4)} {esc(unit)}; Leffler α at dE = 0: "
+                     f"(reaction energy 0) = {num(d['intrinsic_barrier'], 4)} {esc(unit)}; Leffler α at reaction energy 0: "
                      f"{num(d['alpha_at_zero'], 3)}.</p>")
     if curve.identifiability_ is not None:
         parts.append(f"<p><b>Identifiability.</b> "
@@ -190,7 +190,7 @@ METHODS = """
 M. Polanyi, Trans. Faraday Soc. 1938, 34, 11; J. E. Leffler, Science 1953, 117, 340); Marcus (R. A. Marcus,
 J. Chem. Phys. 1956, 24, 966; J. Phys. Chem. 1968, 72, 891); Agmon–Levine (Chem. Phys. Lett. 1977, 52, 197);
 Rehm–Weller (Isr. J. Chem. 1970, 8, 259); Blowers–Masel (AIChE J. 2000, 46, 2041); the three-parameter
-asymptotic curve dE‡ = F + W ln(1 + exp((dE − M)/W)).</li>
+asymptotic curve, barrier = F + W ln(1 + exp((E<sub>r</sub> − M)/W)) with E<sub>r</sub> the reaction energy.</li>
 <li>Parameter intervals: profile-t (D. M. Bates, D. G. Watts, Nonlinear Regression Analysis and Its Applications,
 Wiley 1988); information criteria AICc (C. M. Hurvich, C.-L. Tsai, Biometrika 1989, 76, 297) and BIC.</li>
 <li>Validation: leave-one-out and extrapolation splits with everything inside the loop; Q² with the cautions of

@@ -10,6 +10,7 @@ import numpy as np
 
 from ..kinetics import format_duration
 from . import depict
+from .labels import energy_labels_html
 from .html import esc, num, table
 from .suggest_text import suggest_json
 from .units import in_unit
@@ -53,7 +54,8 @@ def picks_section(result, mode: str = "") -> str:
             f"training member).</p>" if s["already_computed"] else "")
     return (f"<h2>What to compute next</h2><p>Goal: {esc(s['goal'])}; {s['considered']} of {s['candidates']} "
             f"candidates considered.</p>{note}" +
-            table(["pick", "id", "structure", "score", f"dE ({esc(s['units'])})", "why"], rows))
+            table(["pick", "id", "structure", "score",
+                   f"{energy_labels_html(s.get('energy_kind', 'free-energy'))[0]} ({esc(s['units'])})", "why"], rows))
 
 
 def hammett_section(hammett, barrier_kcal, unit: str, figures_dir=None) -> str:

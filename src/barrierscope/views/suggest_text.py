@@ -5,25 +5,27 @@ Takes the suggest record (kcal/mol) and the unit to show.
 
 from __future__ import annotations
 
+from .labels import energy_labels
 from .units import in_unit
 
 
-def reason(p: dict, unit: str) -> str:
+def reason(p: dict, unit: str, kind: str = "free-energy") -> str:
     """Why a pick was made (``p`` already in ``unit``); never cites the candidate itself."""
     f, e = p["facts"], p["energy"]
+    dE = energy_labels(kind)[0]
     where = "its computed" if p["energy_given"] else "its predicted"
     if f["where"] == "downhill":
         pinned = "is not yet pinned" if f["floor_open"] else "is pinned further"
-        parts = [f"extends the energy span downhill ({where} dE {e:.3g} {unit}, {f['below']:.2g} below the lowest "
+        parts = [f"extends the energy span downhill ({where} {dE} {e:.3g} {unit}, {f['below']:.2g} below the lowest "
                  f"member), where the floor {pinned}"]
     elif f["where"] == "uphill":
-        parts = [f"extends the energy span uphill ({where} dE {e:.3g} {unit}, {f['above']:.2g} above the highest "
+        parts = [f"extends the energy span uphill ({where} {dE} {e:.3g} {unit}, {f['above']:.2g} above the highest "
                  f"member), where the uphill asymptote is set"]
     elif f["where"] == "midpoint":
-        parts = [f"sits near the midpoint M ({where} dE {e:.3g} {unit}), where the curvature, and so the width W, "
+        parts = [f"sits near the midpoint M ({where} {dE} {e:.3g} {unit}), where the curvature, and so the width W, "
                  f"is decided"]
     else:
-        parts = [f"fills a sparsely sampled part of the curve ({where} dE {e:.3g} {unit}, {f['gap']:.2g} from the "
+        parts = [f"fills a sparsely sampled part of the curve ({where} {dE} {e:.3g} {unit}, {f['gap']:.2g} from the "
                  f"nearest training member)"]
     if not p["energy_given"] and p["energy_sd"] > 0:
         parts.append(f"its reaction energy is uncertain by ±{p['energy_sd']:.2g}, which the calculation will settle")
@@ -46,13 +48,14 @@ def suggest_json(result) -> dict:
     """The SuggestRecord in its own unit, each pick with its reason."""
     out = in_unit(result, result.units)
     for p in out["picks"]:
-        p["reason"] = reason(p, out["units"])
+        p["reason"] = reason(p, out["units"], out.get("energy_kind", "free-energy"))
     return out
 
 
 def format_suggestions(result: dict) -> str:
     s = suggest_json(result)
     unit = s["units"]
+    dE = energy_labels(s.get("energy_kind", "free-energy"))[0]
     lines = [f"{s['considered']} of {s['candidates']} candidates considered; goal: {s['goal']}"]
     if s["already_computed"]:
         lines.append(f"left out as already computed (same id or structure as a training member): "
@@ -66,10 +69,10 @@ def format_suggestions(result: dict) -> str:
         lines.append(f"{len(s['picks'])} picks instead of the {s['k']} asked for: {why}")
     for n, p in enumerate(s["picks"], start=1):
         flag = "".join(f"  [{text}]" for key, text in (("in_domain", "out of domain"),
-                                                       ("energy_outside_span", "dE outside the members' span"),
-                                                       ("energy_clipped", "dE clipped"),
+                                                       ("energy_outside_span", f"{dE} outside the members' span"),
+                                                       ("energy_clipped", f"{dE} clipped"),
                                                        ("unusual_descriptors", "unusual descriptors"))
                        if bool(p.get(key)) != (key == "in_domain"))
-        lines.append(f"{n:>2}. {p['id']}  score {p['score']:.3g}  dE {p['energy']:.3g} {unit}  barrier "
+        lines.append(f"{n:>2}. {p['id']}  score {p['score']:.3g}  {dE} {p['energy']:.3g} {unit}  barrier "
                      f"{p['barrier']:.3g} [{p['low']:.3g}, {p['high']:.3g}]{flag}\n    {p['reason']}")
     return "\n".join(lines)
