@@ -29,7 +29,7 @@ from ..curves.intervals import t_quantile
 from ..curves.stats import predictive_variance
 from ..estimators.descriptor_regressor import DescriptorRegressor
 from ..estimators.domain import ApplicabilityDomain
-from ..estimators.learners import auto_candidates, inner_mse
+from ..estimators.learners import auto_candidates, inner_mse, minimum_members
 from ..estimators.hybrid import correction_learner, out_of_fold_energy
 from ..estimators.ridge import GUARD_FLAG
 from ..estimators.two_stage import clip_energy, rows
@@ -245,6 +245,11 @@ def _gp_block_hypers(X, per_split, splits, *, random_state, warm) -> list:
         held = np.unique(np.concatenate([splits[k].test for k in block]))
         first = splits[block[0]]
         keep = np.isin(first.train, held, invert=True)      # the block's members none of its splits holds out
+        if keep.sum() < max(minimum_members("gp"), first.train.size // 2):
+            # Overlapping test sets (nested refits) leave too few: each split searches for itself.
+            for k in block:
+                out[k] = warm
+            continue
         reg = DescriptorRegressor("gp", random_state, effort="refit").fit(rows(X, first.train[keep]),
                                                                           per_split[block[0]][keep], warm_start=warm)
         hyper = {k: reg.state_[k] for k in ("constant", "length_scale", "noise")}
