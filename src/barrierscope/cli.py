@@ -109,7 +109,9 @@ REACTION = typer.Option(None, "--reaction", help="Column of reaction SMILES: 1â€
 TEMPLATE = typer.Option(None, "--template", help="Reaction template 'REACTANTS>>PRODUCTS' with [*:1], [*:2] filled "
                                                  "from --substituents.")
 MULT = typer.Option(None, "--multiplicity", help="Column of spin multiplicities laid out like the reaction ('2.1>>2.1').")
-TIERS = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d (or none).")
+CENTRE = typer.Option(None, "--centre", help="With --molecule: SMARTS of the reaction centre for the centre tier "
+                                             "(first match per molecule; default: the molecule's one radical atom).")
+TIERS = typer.Option("2d,table", "--tiers", help="Descriptor tiers: 2d, table, xtb, steric3d, centre (or none).")
 CACHE = typer.Option(None, "--cache-dir", help="Descriptor cache folder (default: the user cache).")
 MAX_ATOMS = typer.Option(200, "--max-atoms", help="Largest molecule accepted, in heavy atoms.")
 WORKERS = typer.Option(1, "--workers", help="Local worker processes.")
@@ -172,15 +174,15 @@ def descriptors(data: Path = typer.Argument(..., help="Table of structures (CSV,
                 output: Path = typer.Option(..., "-o", "--output", help="Output table (.csv, .tsv or .parquet)."),
                 substituents: Optional[str] = SUBSTITUENTS, molecule: Optional[str] = MOLECULE,
                 core: Optional[str] = CORE, reaction: Optional[str] = REACTION, template: Optional[str] = TEMPLATE,
-                multiplicity: Optional[str] = MULT, tiers: str = TIERS, id_column: Optional[str] = ID,
-                cache_dir: Optional[Path] = CACHE, max_atoms: int = MAX_ATOMS, workers: int = WORKERS,
+                multiplicity: Optional[str] = MULT, centre: Optional[str] = CENTRE, tiers: str = TIERS,
+                id_column: Optional[str] = ID, cache_dir: Optional[Path] = CACHE, max_atoms: int = MAX_ATOMS, workers: int = WORKERS,
                 scheduler: Optional[str] = SCHEDULER, xtb_level: str = XTB_LEVEL, solvent: Optional[str] = SOLVENT,
                 quiet: bool = typer.Option(False, "--quiet", help="No summary on stderr.")):
     """Compute descriptors: one output row per input row, with a status column."""
     from .jobs.describe import run_describe
 
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
-                     multiplicity=multiplicity)
+                     multiplicity=multiplicity, centre=centre)
     table = run_describe(data, output, structure, tiers, id_column=id_column, cache_dir=cache_dir, max_atoms=max_atoms,
                          workers=workers, scheduler=scheduler, xtb_level=xtb_level, solvent=solvent)
     if not quiet:
@@ -201,7 +203,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
         output: Path = typer.Option(..., "-o", "--output", help="Model file to write (JSON)."),
         substituents: Optional[str] = SUBSTITUENTS, molecule: Optional[str] = MOLECULE, core: Optional[str] = CORE,
         reaction: Optional[str] = REACTION, template: Optional[str] = TEMPLATE, multiplicity: Optional[str] = MULT,
-        tiers: str = TIERS,
+        centre: Optional[str] = CENTRE, tiers: str = TIERS,
         learner: str = typer.Option("auto", "--learner", help="auto (ridge or a Gaussian process, chosen per family "
                                                               "and inside every validation split), ridge, pls, gp "
                                                               "or forest."),
@@ -238,7 +240,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
                       n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals,
                       family_column=family, share=parse_share(share), margin=margin)
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
-                     multiplicity=multiplicity)
+                     multiplicity=multiplicity, centre=centre)
     model, record = fit_file(data, output, structure, opts,
                              engine_opts=EngineOptions(tiers=tiers, cache_dir=cache_dir if cache_dir is not None else "default",
                                            workers=workers, scheduler=scheduler, xtb_level=xtb_level,

@@ -71,6 +71,56 @@ def _reaction_energies(reactions, engine: DescriptorEngine, errors, kinds) -> np
     return out
 
 
+def centre_block(df, spec: InputSpec, res: Resolution, engine: DescriptorEngine, errors, kinds) -> dict:
+    """The centre tier's row-level columns (reaction and molecule modes), through the cache: a
+    reaction's centre from its own SMILES (atom maps used when complete), a molecule's from
+    ``spec.centre`` or its one radical atom. A row without a centre gets its message."""
+    from .centre import VERSION, centre_row, columns, molecule_centres, reaction_centres
+
+    n = len(df)
+    names = columns() + ["centre_count"]
+    if spec.mode == "reaction":
+        texts = df[spec.columns[0]].astype(str).to_numpy()
+        keys = [t if errors[i] is None or pd.isna(errors[i]) else None for i, t in enumerate(texts)]
+    else:
+        molecules = res.keys[res.positions[0]]
+        keys = [None if m is None else f"{spec.centre or ''}|{m}" for m in molecules]
+
+    def compute(todo):
+        from rdkit import Chem
+
+        query = Chem.MolFromSmarts(spec.centre) if spec.centre else None
+        out = []
+        for key in todo:
+            try:
+                if spec.mode == "reaction":
+                    atoms = [(m, i) for m, i, _ in reaction_centres(key)]
+                else:
+                    mol = Chem.MolFromSmiles(key.split("|", 1)[1])
+                    atoms = molecule_centres(mol, query)
+                if not atoms:
+                    raise ValueError("no atom changes its bonding")
+                out.append({"values": centre_row(atoms)})
+            except Exception as exc:  # noqa: BLE001 - one row's centre must not stop the table
+                out.append({"error": str(exc).splitlines()[0][:300] or type(exc).__name__})
+        return out
+
+    scope = "centre:" + spec.mode
+    found = engine._through_cache(scope, VERSION, sorted({k for k in keys if k is not None}), compute)
+    block = {c: np.full(n, np.nan) for c in names}
+    for i, k in enumerate(keys):
+        if k is None:
+            continue
+        p = found[k]
+        if p.get("error"):
+            if errors[i] is None or pd.isna(errors[i]):
+                errors[i], kinds[i] = f"centre: {p['error']}", "centre"
+            continue
+        for c in names:
+            block[c][i] = p["values"].get(c, np.nan)
+    return block
+
+
 def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
               max_atoms: int = DEFAULT_MAX_HEAVY_ATOMS, *, resolution: Resolution | None = None) -> FeatureBlock:
     """Descriptors for every row of ``df``; see the module docstring."""
@@ -106,6 +156,8 @@ def featurize(df: pd.DataFrame, spec: InputSpec, engine: DescriptorEngine,
         notes_parts.append((p, unit_notes))
     if reactions is not None and "xtb" in engine.tiers:
         blocks[REACTION_ENERGY_XTB] = _reaction_energies(reactions, engine, errors, kinds)
+    if "centre" in engine.tiers and spec.mode in ("reaction", "molecule"):
+        blocks.update(centre_block(df, spec, res, engine, errors, kinds))
     X = pd.DataFrame(blocks, index=df.index)
     failed = pd.notna(errors)
     if failed.any():  # a row that failed carries no half-finished descriptors

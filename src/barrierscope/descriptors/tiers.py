@@ -83,8 +83,13 @@ def _steric_molecule(key, context=None):
     return molecule_shape_descriptors(key)
 
 
+def _centre_substituent(key, context=None):
+    from .centre import substituent_centre
+    return substituent_centre(key)
+
+
 def _build_registry() -> dict[str, Tier]:
-    from . import hammett, topological
+    from . import centre, hammett, topological
 
     tiers = [
         Tier("2d", topological.VERSION, topological.SUBSTITUENT_COLUMNS, topological.MOLECULE_COLUMNS,
@@ -99,6 +104,10 @@ def _build_registry() -> dict[str, Tier]:
         Tier("steric3d", "steric3d-1", ("sterimol_l", "sterimol_b1", "sterimol_b5", "buried_volume"),
              ("sasa", "volume"), _steric_substituent, _steric_molecule, slow=True, extra="steric",
              description="Sterimol L, B1, B5 and buried volume from a low-energy conformer"),
+        # Molecules and reactions get their centre row by row (featurize.centre_block): where the
+        # centre is depends on the whole reaction or on --centre, not on one unit alone.
+        Tier("centre", centre.VERSION, tuple(f"centre_{f}" for f in centre.FEATURES), (), _centre_substituent, None,
+             description="the reaction centre: the atoms whose bonding changes and their first shell"),
     ]
     return {t.name: t for t in tiers}
 

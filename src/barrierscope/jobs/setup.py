@@ -6,15 +6,17 @@ from __future__ import annotations
 import contextlib
 
 
-def structure_spec(substituents=None, molecule=None, core=None, reaction=None, *, template=None, multiplicity=None):
+def structure_spec(substituents=None, molecule=None, core=None, reaction=None, *, template=None, multiplicity=None,
+                   centre=None):
     """The structure options as an :class:`~barrierscope.structures.spec.InputSpec`; a
     combination that cannot be used (or an unreadable core or template) names the options."""
     from ..structures.spec import make_spec
     from .options import option
 
-    with option("structure options (--substituents, --molecule, --core, --reaction, --template, --multiplicity)"):
+    with option("structure options (--substituents, --molecule, --core, --reaction, --template, --multiplicity, "
+                "--centre)"):
         return make_spec(substituents=substituents, molecule=molecule, core=core, reaction=reaction,
-                         template=template, multiplicity=multiplicity)
+                         template=template, multiplicity=multiplicity, centre=centre)
 
 
 def xtb_settings(level: str = "sp", solvent: str | None = None):

@@ -28,15 +28,25 @@ class InputSpec:
     multiplicity: str | None = None   # reaction mode: column of spin multiplicities ("1.2>>2.1")
     #: reaction mode: the family's layout (species order, constant partners); None until fitted
     layout: object = None
+    #: molecule mode: SMARTS of the reaction centre (the centre tier; first match per molecule)
+    centre: str | None = None
 
     def __post_init__(self):
         if self.mode not in MODES:
             raise ValueError(f"unknown input mode {self.mode!r}; valid choices: {', '.join(MODES)}")
+        if self.centre is not None:
+            from rdkit import Chem
+
+            if self.mode != "molecule":
+                raise ValueError("--centre goes with molecule input (reactions find their centre themselves; "
+                                 "core and substituent input use each group's attachment atom)")
+            if Chem.MolFromSmarts(self.centre) is None:
+                raise ValueError(f"--centre {self.centre!r} is not a valid SMARTS pattern")
 
     def as_dict(self) -> dict:
         return {"mode": self.mode, "columns": list(self.columns), "core": self.core,
                 "template": self.template, "positions": list(self.positions), "multiplicity": self.multiplicity,
-                "layout": None if self.layout is None else self.layout.as_dict()}
+                "layout": None if self.layout is None else self.layout.as_dict(), "centre": self.centre}
 
     @classmethod
     def from_dict(cls, d: dict) -> "InputSpec":
@@ -47,13 +57,16 @@ class InputSpec:
             layout = ReactionLayout.from_dict(d["layout"])
         return cls(mode=d["mode"], columns=tuple(d.get("columns") or ()), core=d.get("core"),
                    template=d.get("template"), positions=tuple(d.get("positions") or ()),
-                   multiplicity=d.get("multiplicity"), layout=layout)
+                   multiplicity=d.get("multiplicity"), layout=layout, centre=d.get("centre"))
 
 
 def make_spec(substituents: str | None = None, molecule: str | None = None, core: str | None = None,
               reaction: str | None = None, *, template: str | None = None,
-              multiplicity: str | None = None) -> InputSpec:
+              multiplicity: str | None = None, centre: str | None = None) -> InputSpec:
     """The spec from command-line options; the error says which combinations are allowed."""
+    if centre and not (molecule and not core):
+        raise ValueError("--centre goes with molecule input (reactions find their centre themselves; core and "
+                         "substituent input use each group's attachment atom)")
     subs = tuple(c.strip() for c in substituents.split(",") if c.strip()) if substituents else ()
     given = [n for n, v in (("substituents", subs), ("molecule", molecule), ("reaction", reaction)) if v]
     if template and not subs:
@@ -80,7 +93,7 @@ def make_spec(substituents: str | None = None, molecule: str | None = None, core
 
         return InputSpec("core", (molecule,), core=core, positions=tuple(CoreDecomposer(core).positions))
     if molecule:
-        return InputSpec("molecule", (molecule,), positions=(molecule,))
+        return InputSpec("molecule", (molecule,), positions=(molecule,), centre=centre or None)
     if multiplicity and not reaction:
         raise ValueError("multiplicity goes with reaction")
     if reaction:
