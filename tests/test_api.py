@@ -77,4 +77,15 @@ def test_curve_on_the_callers_axes_and_loaded_models(both):
 def test_suggest_from_a_dataframe(both):
     family, *_, lib, _ = both
     picks = family.suggest(pd.read_csv(lib), k=3)
-    assert len(picks["picks"]) == 3 and all(p["reason"] for p in picks["picks"])
+    assert isinstance(picks, pd.DataFrame) and len(picks) == 3 and picks["reason"].str.len().gt(0).all()
+    assert picks.attrs["suggest"]["k"] == 3 and {"id", "score", "barrier", "energy"} <= set(picks.columns)
+
+
+def test_the_api_lists_its_names_and_describes_tables(both):
+    import barrierscope as bs
+
+    assert {"fit", "load", "read_table", "descriptors", "Family"} <= set(dir(bs))
+    table = pd.DataFrame({"R1": ["[*]C#N", "[*]C", "[*]OC"], "R2": ["[*][H]", "[*]F", "C(C"]})
+    d = bs.descriptors(table, substituents="R1,R2", tiers="2d", cache_dir=None)
+    assert len(d) == 3 and list(d["status"][:2]) == ["ok", "ok"] and d["status"][2] != "ok"
+    assert "R1_mr" in d.columns

@@ -27,15 +27,17 @@ def test_fit_json_contract(family_csv, tmp_path):
     s = json.loads(r.stdout)
     assert s["n"] == 26
     assert set(s["energy_stage"]) >= {"mae", "rmse", "r2"}
-    assert set(s["routes"]) == {"two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean"}
-    assert set(s["comparison"]) == {"two_stage_vs_direct", "hybrid_vs_direct"}
+    assert set(s["routes"]) == {"two_stage", "hybrid", "direct", "structure_curve", "curve_on_true_energy",
+                                "structure_curve_on_true_energy", "family_mean"}
+    assert set(s["comparison"]) == {"two_stage_vs_direct", "hybrid_vs_direct", "structure_curve_vs_direct"}
     assert "mae_mean" in s["y_randomization"]
-    assert s["winner"] in ("two_stage", "hybrid", "direct", "tie", "family_mean")
+    assert s["winner"] in ("two_stage", "hybrid", "direct", "structure_curve", "tie", "family_mean")
     # Every regime side by side (issue 13's contract).
     assert set(s["validation"]) == {"loo", "downhill", "uphill", "clusters"}
     for name, regime in s["validation"].items():
         assert {"n_test", "routes", "winner"} <= set(regime), name
-        assert set(regime["routes"]) == {"two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean"}
+        assert set(regime["routes"]) == {"two_stage", "hybrid", "direct", "structure_curve", "curve_on_true_energy",
+                                         "structure_curve_on_true_energy", "family_mean"}
         for m in regime["routes"].values():
             assert {"mae", "rmse"} <= set(m)
     assert s["validation"]["downhill"]["n_test"] == 7  # the most exergonic quarter of 26, rounded up

@@ -70,5 +70,5 @@ def test_column_names_are_position_underscore_descriptor():
 def test_tier_names_are_checked():
     assert parse_tiers("2d,table") == ("2d", "table")
     assert parse_tiers("none") == ()
-    with pytest.raises(ValueError, match="valid choices: 2d, table, xtb, steric3d, none"):
+    with pytest.raises(ValueError, match="valid choices: 2d, table, xtb, steric3d, centre, none"):
         parse_tiers("2d,quantum")

@@ -89,7 +89,8 @@ def test_gp_matches_scikit_learn():
 
 def test_scikit_learn_conventions():
     reg = DescriptorRegressor("pls", random_state=3)
-    assert clone(reg).get_params() == {"learner": "pls", "random_state": 3, "effort": "full"}
+    assert clone(reg).get_params() == {"learner": "pls", "random_state": 3, "effort": "full", "anchor": None,
+                                       "fixed": ()}
     with pytest.raises(ValueError, match="valid choices: auto, ridge, pls, gp, forest"):
         DescriptorRegressor("svm").fit(*invented(n=10)[:2])
 

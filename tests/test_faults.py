@@ -143,3 +143,35 @@ def test_a_fault_in_barrierscope_exits_3_with_the_traceback_in_a_file(tmp_path, 
     # The same command with a bad option is the chemist's to fix: exit 2, no traceback file.
     bad = CliRunner().invoke(app, ["curve", str(path), "--energy", "dE", "--barrier", "dG", "--loss", "quartic"])
     assert bad.exit_code == 2 and "--loss" in bad.output and "internal error" not in bad.output
+
+
+def _signal_after(cmd, delay, env, sig) -> tuple[bool, int]:
+    """Run ``cmd``, send ``sig`` after ``delay`` s; (whether it hit a running process, exit code)."""
+    proc = subprocess.Popen(cmd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    time.sleep(delay)
+    hit = proc.poll() is None
+    if hit:
+        os.kill(proc.pid, sig)
+    return hit, proc.wait()
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGHUP])
+def test_sigterm_and_sighup_during_screen_leave_no_part_files(setup, sig):
+    """A job queue's time limit (SIGTERM) or a closed terminal (SIGHUP) mid-screen: the run
+    stops with 128 + the signal's number, and leaves neither part folders nor a partial output."""
+    folder, _, model, lib, env = setup
+    out = folder / f"stopped-{int(sig)}.csv"
+    cmd = [*CLI, "screen", str(model), str(lib), "-o", str(out), "--chunk-size", "2000", "--quiet", "--workers", "2"]
+    stopped = 0
+    for delay in (1.0, 2.0):
+        hit, code = _signal_after(cmd, delay, env, sig)
+        if hit and code == 128 + int(sig):
+            stopped += 1
+        assert not list(folder.glob(f".{out.name}.parts.*")), f"part folders left after {sig.name} at {delay} s"
+        assert not [p for p in folder.glob(f".{out.name}.*") if p.suffix == ".part" or ".parts." in p.name], \
+            f"temporary files left after {sig.name} at {delay} s"
+        if out.exists():
+            assert len(pd.read_csv(out)) == 60000, f"partial output after {sig.name} at {delay} s"
+            out.unlink()
+    assert stopped >= 1, "the screen finished before every signal: the test would not test anything"

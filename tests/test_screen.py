@@ -102,7 +102,13 @@ def test_given_energies_take_the_curve_route(model_path, library, tmp_path):
     ok = res["status"] == "ok"
     even = (res.index % 2 == 0) & ok
     assert (res.loc[even, "reaction_energy_source"] == "given").all()
-    assert (res.loc[even, "route"] == "curve_on_given_energy").all()
+    from barrierscope.io.modelfile import load_model
+
+    # A given energy skips the energy stage: the plain curve, or the structure curve when that
+    # is the model's route (its given-energy branch).
+    structure = load_model(model_path).primary_route == "structure_curve"
+    want = "structure_curve_on_given_energy" if structure else "curve_on_given_energy"
+    assert (res.loc[even, "route"] == want).all()
     assert np.allclose(res.loc[even, "reaction_energy_kcal_mol"].astype(float), -10.0)
     assert np.allclose(res.loc[even, "reaction_energy_sd_kcal_mol"].astype(float), 0.0)
     assert (res.loc[(res.index % 2 == 1) & ok, "reaction_energy_source"] == "predicted").all()
@@ -159,3 +165,33 @@ def test_rank_is_monotone_in_the_barrier(seed):
     assert (ri[:, None] < ri[None, :])[lower].all()
     assert (ri[:, None] == ri[None, :])[bi[:, None] == bi[None, :]].all()
     assert all(ri[k] == 1 + int(np.sum(bi < bi[k])) for k in range(bi.size))
+
+
+def test_the_library_s_own_descriptor_columns_are_read(tmp_path):
+    """--extra-descriptors at fit: screen takes each row's own value from the library (it
+    used to impute every row with the training median, silently). Invented: the reaction
+    energy is 3 × the user's column; a library row's energy must follow its own value."""
+    fam = substituent_family(24, seed=5)
+    rng = np.random.default_rng(1)
+    fam["ux"] = rng.uniform(-4.0, 4.0, len(fam))
+    fam["dE"] = 3.0 * fam["ux"] + rng.normal(0, 0.2, len(fam))
+    model, _ = fit_family(_numbered(fam), "fam",
+                          make_spec(substituents="R1,R2"), DescriptorEngine(("2d",)),
+                          opts=FitOptions("dE", "dG", n_shuffles=0, extra_descriptors=["ux"], learner="ridge",
+                                          regimes=("loo",)))
+    path = tmp_path / "m.json"
+    modelfile.save(model.as_dict(), path)
+    lib = fam[["R1", "R2"]].head(6).copy()
+    lib["ux"] = [-3.0, -2.0, -1.0, 1.0, 2.0, 3.0]
+    lib.to_csv(tmp_path / "lib.csv", index=False)
+    run_screen(path, tmp_path / "lib.csv", tmp_path / "o.csv", ScreenOptions(cache_dir=None), progress=False)
+    res = pd.read_csv(tmp_path / "o.csv").sort_values("row")
+    assert np.corrcoef(res["reaction_energy_kcal_mol"], lib["ux"])[0, 1] > 0.95
+
+
+def _numbered(df):
+    from barrierscope.io.tables import ROW
+
+    out = df.copy()
+    out[ROW] = np.arange(1, len(out) + 1)
+    return out

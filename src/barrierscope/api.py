@@ -111,13 +111,20 @@ class Family:
         return screen_frame(predict_chunk(self.model, df, source, opts, engine=engine).frame, self.units, rounded=False)
 
     def suggest(self, candidates, k: int = 5, goal: str = "parameters", energy: str | None = None,
-                *, cache_dir="default") -> dict:
-        """What to compute next (as `suggest --json` prints it)."""
+                *, cache_dir="default", **options) -> pd.DataFrame:
+        """What to compute next: one row per pick, in pick order, with its ``score`` (the gain
+        when it was picked), predictions in the model's unit, flags and ``reason``; the run's
+        facts (candidates considered, left out...) in ``DataFrame.attrs["suggest"]`` (as
+        `suggest --json` prints them). ``options``: those of the suggest job (``domain``)."""
         from .jobs.suggest import suggest_file
         from .views.suggest_text import suggest_json
 
         table = _as_table(candidates)[0] if isinstance(candidates, pd.DataFrame) else candidates
-        return suggest_json(suggest_file(None, table, k, goal, energy_column=energy, cache_dir=cache_dir, model=self.model))
+        out = suggest_json(suggest_file(None, table, k, goal, energy_column=energy, cache_dir=cache_dir,
+                                        model=self.model, **options))
+        frame = pd.DataFrame(out["picks"])
+        frame.attrs["suggest"] = {key: v for key, v in out.items() if key != "picks"}
+        return frame
 
     def save(self, path) -> None:
         from .io import modelfile
@@ -132,21 +139,44 @@ class Family:
 
 def fit(data, energy: str, barrier: str, *, substituents: str | None = None, molecule: str | None = None,
         core: str | None = None, reaction: str | None = None, template: str | None = None,
-        multiplicity: str | None = None, tiers: str = "2d,table", cache_dir="default", workers: int = 1,
+        multiplicity: str | None = None, centre: str | None = None, tiers: str = "2d,table", cache_dir="default",
+        workers: int = 1,
         xtb_level: str = "sp", solvent: str | None = None, **options) -> Family:
     """Fit and validate a family, as `barrierscope fit` does (the same path, the same checks).
     ``data`` is a DataFrame or a path; ``options`` are those of
     :class:`barrierscope.jobs.fit.FitOptions` (learner, relation, units, energy_kind,
-    extra_descriptors, id_column, n_shuffles, ...)."""
+    extra_descriptors, computed_energy, id_column, n_shuffles, ...)."""
     from .jobs.fit import EngineOptions, FitOptions, fit_table
 
     df, source = _as_table(data)
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
-                     multiplicity=multiplicity)
+                     multiplicity=multiplicity, centre=centre)
     model, record = fit_table(df, source, structure, FitOptions(energy_column=energy, barrier_column=barrier, **options),
                               engine_opts=EngineOptions(tiers=tiers, cache_dir=cache_dir, workers=workers, xtb_level=xtb_level,
                                             solvent=solvent))
     return Family(model, record)
+
+
+def descriptors(data, *, substituents: str | None = None, molecule: str | None = None, core: str | None = None,
+                reaction: str | None = None, template: str | None = None, multiplicity: str | None = None,
+                centre: str | None = None, tiers: str = "2d,table", id_column: str | None = None,
+                cache_dir="default", workers: int = 1, xtb_level: str = "sp", solvent: str | None = None,
+                max_atoms: int = 200) -> pd.DataFrame:
+    """The descriptor table of ``data`` (a DataFrame or a path), as `barrierscope descriptors`
+    writes it: one row per input row with ``row``, ``id``, the structure columns, ``status``,
+    ``notes`` and every descriptor (units in the README's descriptor table)."""
+    from .errors import InputError
+    from .jobs.describe import describe_chunk
+    from .jobs.setup import descriptor_engine, structure_spec
+
+    df, source = _as_table(data)
+    spec = structure_spec(substituents=substituents, molecule=molecule, core=core, reaction=reaction,
+                          template=template, multiplicity=multiplicity, centre=centre)
+    if spec.mode == "none":
+        raise InputError("say where the structures are: substituents=, molecule= (with or without core=), "
+                         "reaction=, or template= with substituents=")
+    with descriptor_engine(tiers, cache_dir, workers, None, xtb_level=xtb_level, solvent=solvent) as engine:
+        return describe_chunk(df, source, spec, engine, id_column=id_column, max_atoms=max_atoms)
 
 
 def load(path) -> Family:

@@ -58,12 +58,40 @@ def crash_report(exc: BaseException) -> Path:
     return path
 
 
+class Stopped(BaseException):
+    """A stop signal (SIGTERM: a job queue's time limit; SIGHUP: a closed terminal) raised in
+    the main thread, so every ``finally`` runs — part files, temporary outputs — as for Ctrl-C."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _raise_stopped(signum, frame):
+    raise Stopped(signum)
+
+
+def _stop_signals() -> dict:
+    """Install the stop handlers (main thread only); returns the previous ones."""
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return {}
+    wanted = [getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n)]
+    return {s: signal.signal(s, _raise_stopped) for s in wanted}
+
+
 def guarded(func):
     """Run a command body: the chemist's problems become messages (exit 2), faults in
-    barrierscope an internal-error message with the traceback in a file (exit 3)."""
+    barrierscope an internal-error message with the traceback in a file (exit 3); Ctrl-C,
+    SIGTERM and SIGHUP stop it cleanly (exit 128 + the signal's number)."""
 
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
+        import signal
+
+        previous = _stop_signals()
         try:
             return func(*args, **kwargs)
         except typer.Exit:
@@ -72,6 +100,8 @@ def guarded(func):
             _fail(str(exc), exc.exit_code)
         except KeyboardInterrupt:
             _fail("interrupted", 130)
+        except Stopped as exc:
+            _fail(f"stopped by {signal.Signals(exc.signum).name}; no partial output was left", 128 + exc.signum)
         except MemoryError:
             _fail("out of memory; try a smaller --chunk-size", 3)
         except Exception as exc:  # a fault in barrierscope, not in the input
@@ -80,6 +110,9 @@ def guarded(func):
             where = crash_report(exc)
             _fail(f"internal error — please report ({type(exc).__name__}: {str(exc)[:300]}); the traceback is in "
                   f"{where} (BARRIERSCOPE_DEBUG=1 prints it here instead)", 3)
+        finally:
+            for sig, handler in previous.items():
+                signal.signal(sig, handler)
 
     return wrapper
 
@@ -212,6 +245,11 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
         units: str = UNITS, kind: str = KIND,
         extra_descriptors: Optional[str] = typer.Option(None, "--extra-descriptors",
                                                         help="Comma-separated numeric columns of your own descriptors."),
+        computed_energy: Optional[str] = typer.Option(
+            None, "--computed-energy", metavar="COL",
+            help="Column of cheaply computed reaction energies (in --units; every member needs one): the energy "
+                 "stage and the black box are anchored on it (a + b·COL, unpenalised, plus a penalised correction "
+                 "when it pays). Default: the xtb tier's reaction energy when computed; 'none' turns anchoring off."),
         id_column: Optional[str] = ID,
         shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
         margin: Optional[float] = typer.Option(None, "--margin", help="Smallest MAE difference (in --units) the "
@@ -238,7 +276,7 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
     opts = FitOptions(energy_column=energy, barrier_column=barrier, learner=learner, relation=relation, units=units,
                       energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
                       n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals,
-                      family_column=family, share=parse_share(share), margin=margin)
+                      family_column=family, share=parse_share(share), margin=margin, computed_energy=computed_energy)
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
                      multiplicity=multiplicity, centre=centre)
     model, record = fit_file(data, output, structure, opts,

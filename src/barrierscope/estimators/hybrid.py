@@ -24,12 +24,14 @@ def correction_learner(learner: str) -> str:
     return "ridge" if learner == "auto" else learner
 
 
-def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, *, fitted: DescriptorRegressor | None = None):
+def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, *, fitted: DescriptorRegressor | None = None,
+                       anchor=None, fixed=()):
     """Energy-stage predictions for training members from fits that did not see them:
     exact leave-one-out for ridge (closed form), 5-fold cross-validation otherwise.
     ``fitted`` is the energy stage already fitted on (X, energy), when there is one."""
     energy = np.asarray(energy, dtype=float)
-    reg = fitted if fitted is not None else DescriptorRegressor(learner, random_state).fit(X, energy)
+    reg = fitted if fitted is not None else DescriptorRegressor(learner, random_state, anchor=anchor,
+                                                                 fixed=fixed).fit(X, energy)
     loo = reg.loo_predictions(energy)
     if loo is not None:  # closed form (ridge, GP) or out-of-bag (forest: a member in every tree's sample has none)
         missing = ~np.isfinite(loo)
@@ -38,7 +40,8 @@ def out_of_fold_energy(X, energy, learner: str, random_state: int = 0, *, fitted
 
     out = np.empty(energy.size)
     for tr, te in KFold(n_splits=min(5, energy.size), shuffle=True, random_state=random_state).split(energy):
-        out[te] = DescriptorRegressor(learner, random_state).fit(rows(X, tr), energy[tr]).predict(rows(X, te))
+        out[te] = DescriptorRegressor(learner, random_state, anchor=reg.anchor, fixed=reg.fixed).fit(
+            rows(X, tr), energy[tr]).predict(rows(X, te))
     return out
 
 
@@ -70,6 +73,8 @@ class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
     relation : str — the relation of the two-stage part
     random_state : int
     energy_column : int, str or None — as for :class:`TwoStageRegressor`
+    anchor, fixed — the energy stage's anchor, as for :class:`TwoStageRegressor` (the
+        correction is not anchored: it learns residuals of the barrier)
 
     Attributes
     ----------
@@ -84,11 +89,13 @@ class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
     _poor_score = True   # one column of X (the energy) carries the curve's part
 
     def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0,
-                 energy_column=None):
+                 energy_column=None, anchor=None, fixed=()):
         self.learner = learner
         self.relation = relation
         self.random_state = random_state
         self.energy_column = energy_column
+        self.anchor = anchor
+        self.fixed = fixed
 
     def fit(self, X, y, energy=None):
         """X (n, p) descriptors, y (n,) barriers and ``energy`` (n,) reaction energies, kcal/mol
@@ -101,8 +108,8 @@ class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
             raise ValueError(f"X has {self.n_features_in_} feature(s), the reaction energy's column alone: the hybrid "
                              f"route needs descriptors to learn its correction from")
         barrier = self._validate_y(y, energy.size)
-        self.two_stage_ = TwoStageRegressor(self.learner, self.relation, random_state=self.random_state).fit(
-            D, barrier, energy)
+        self.two_stage_ = TwoStageRegressor(self.learner, self.relation, random_state=self.random_state,
+                                            anchor=self.anchor, fixed=self.fixed).fit(D, barrier, energy)
         e_oof = out_of_fold_energy(D, energy, self.learner, self.random_state, fitted=self.two_stage_.energy_)
         self.oof_residuals_ = barrier - out_of_fold_barrier(self.two_stage_.curve_, energy, barrier, e_oof,
                                                             self.random_state)

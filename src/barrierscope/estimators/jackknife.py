@@ -53,17 +53,22 @@ def conformal_bounds(mu, resid, level: float) -> tuple[np.ndarray, np.ndarray]:
     return low, high
 
 
-def route_estimator(route: str, learner: str, relation: str, random_state: int):
+def route_estimator(route: str, learner: str, relation: str, random_state: int, anchor=None, fixed=()):
     from .descriptor_regressor import DescriptorRegressor
     from .hybrid import HybridRegressor
     from .two_stage import TwoStageRegressor
 
+    a = dict(anchor=anchor, fixed=fixed)
     if route == "two_stage":
-        return TwoStageRegressor(learner, relation, random_state=random_state)
+        return TwoStageRegressor(learner, relation, random_state=random_state, **a)
     if route == "hybrid":
-        return HybridRegressor(learner, relation, random_state)
+        return HybridRegressor(learner, relation, random_state, **a)
     if route == "direct":
-        return DescriptorRegressor(learner, random_state)
+        return DescriptorRegressor(learner, random_state, **a)
+    if route == "structure_curve":
+        from .structure_route import StructureRouteRegressor
+
+        return StructureRouteRegressor(learner, relation, random_state, **a)
     raise ValueError(f"no jackknife+ intervals for the route {route!r}")
 
 
@@ -72,7 +77,10 @@ def _load(route: str, d: dict):
     from .hybrid import HybridRegressor
     from .two_stage import TwoStageRegressor
 
-    return {"two_stage": TwoStageRegressor, "hybrid": HybridRegressor, "direct": DescriptorRegressor}[route].from_dict(d)
+    from .structure_route import StructureRouteRegressor
+
+    return {"two_stage": TwoStageRegressor, "hybrid": HybridRegressor, "direct": DescriptorRegressor,
+            "structure_curve": StructureRouteRegressor}[route].from_dict(d)
 
 
 class JackknifePlus:
@@ -80,8 +88,8 @@ class JackknifePlus:
 
     Parameters
     ----------
-    route : {"two_stage", "hybrid", "direct"}
-    learner, relation, random_state : as the route's estimator
+    route : {"two_stage", "hybrid", "direct", "structure_curve"}
+    learner, relation, random_state, anchor, fixed : as the route's estimator
     level : float — nominal coverage (0.90)
 
     Attributes
@@ -93,12 +101,14 @@ class JackknifePlus:
     """
 
     def __init__(self, route: str = "two_stage", learner: str = "ridge", relation: str = "asymptotic",
-                 level: float = 0.90, *, random_state: int = 0):
+                 level: float = 0.90, *, random_state: int = 0, anchor=None, fixed=()):
         self.route = route
         self.learner = learner
         self.relation = relation
         self.level = level
         self.random_state = random_state
+        self.anchor = anchor
+        self.fixed = fixed
 
     def fit(self, X, y, energy=None):
         """X (n, p) descriptors, y (n,) barriers, ``energy`` (n,) reaction energies, kcal/mol."""
@@ -108,21 +118,26 @@ class JackknifePlus:
         self.models_, self.resid_, self.curve_resid_ = [], np.empty(n), np.full(n, np.nan)
         for held in self.folds_:
             keep = np.setdiff1d(np.arange(n), held)
-            est = route_estimator(self.route, self.learner, self.relation, self.random_state)
+            est = route_estimator(self.route, self.learner, self.relation, self.random_state, self.anchor, self.fixed)
             if self.route == "direct":
                 est.fit(rows(X, keep), y[keep])
             else:
                 e = np.asarray(energy, dtype=float)
                 est.fit(None if X is None else rows(X, keep), y[keep], energy=e[keep])
-                self.curve_resid_[held] = np.abs(y[held] - self._curve(est).predict(e[held]))
+                self.curve_resid_[held] = np.abs(y[held] - self._given(est, None if X is None else rows(X, held),
+                                                                       e[held]))
             # A curve-only model predicts every member from its given reaction energy.
             self.resid_[held] = (self.curve_resid_[held] if X is None
                                  else np.abs(y[held] - est.predict(rows(X, held))))
             self.models_.append(est)
         return self
 
-    def _curve(self, est):
-        return est.two_stage_.curve_ if self.route == "hybrid" else est.curve_
+    def _given(self, est, X, energy) -> np.ndarray:
+        """A fold model's barrier at given reaction energies: its curve (the structure curve
+        route: its member-specific curve, which needs the members' descriptors)."""
+        if self.route == "structure_curve":
+            return est.predict(X, energy=energy)
+        return (est.two_stage_.curve_ if self.route == "hybrid" else est.curve_).predict(energy)
 
     def _fold_of(self) -> np.ndarray:
         owner = np.empty(sum(f.size for f in self.folds_), dtype=int)
@@ -143,7 +158,8 @@ class JackknifePlus:
             low[~given], high[~given] = conformal_bounds(mu, self.resid_, self.level)
         if given.any() and self.route != "direct":
             e = np.asarray(energy, dtype=float)[given]
-            mu = np.column_stack([self._curve(est).predict(e) for est in self.models_])[:, owner]
+            sub = None if X is None else rows(X, np.flatnonzero(given))
+            mu = np.column_stack([self._given(est, sub, e) for est in self.models_])[:, owner]
             low[given], high[given] = conformal_bounds(mu, self.curve_resid_, self.level)
         return low, high
 
@@ -154,13 +170,15 @@ class JackknifePlus:
     def as_dict(self) -> dict:
         check_fitted(self, "models_")
         return {"route": self.route, "learner": self.learner, "relation": self.relation, "level": self.level,
-                "random_state": self.random_state, "method": self.method,
+                "random_state": self.random_state, "method": self.method, "anchor": self.anchor,
+                "fixed": list(self.fixed),
                 "folds": [f.tolist() for f in self.folds_], "models": [m.as_dict() for m in self.models_],
                 "resid": self.resid_.tolist(), "curve_resid": self.curve_resid_.tolist()}
 
     @classmethod
     def from_dict(cls, d: dict) -> "JackknifePlus":
-        self = cls(d["route"], d["learner"], d["relation"], float(d["level"]), random_state=int(d["random_state"]))
+        self = cls(d["route"], d["learner"], d["relation"], float(d["level"]), random_state=int(d["random_state"]),
+                   anchor=d.get("anchor"), fixed=tuple(d.get("fixed") or ()))
         self.folds_ = [np.asarray(f, dtype=int) for f in d["folds"]]
         self.models_ = [_load(self.route, m) for m in d["models"]]
         self.resid_ = np.asarray(d["resid"], dtype=float)

@@ -64,6 +64,8 @@ def inner_mse(state: dict) -> float:
     exact leave-one-out (ridge at its penalty, Gaussian process at its hyper-parameters),
     cross-validated (PLS) or out-of-bag (forest). What ``auto`` compares."""
     kind = state["kind"]
+    if kind == "anchored":
+        return float(state["scores"][state["choice"]]["loo_rmse"]) ** 2
     if kind == "ridge":
         return float(state["loo_rmse"]) ** 2
     if kind == "pls":
@@ -309,13 +311,20 @@ def _forest_predict(state: dict, X: np.ndarray):
 
 
 def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, *, warm: dict | None = None,
-              effort: str = "full") -> dict:
+              effort: str = "full", anchor: list[int] | None = None) -> dict:
     """Fit learner ``name`` on (X, y) and return its state (plain data); ``warm`` a state of the
     same learner to start a Gaussian process's hyper-parameter search from; ``effort="refit"``
-    bounds the cost of validation refits (forests of :data:`REFIT_FOREST_TREES` trees)."""
+    bounds the cost of validation refits (forests of :data:`REFIT_FOREST_TREES` trees).
+    ``anchor``: X's columns fitted unpenalised (the computed reaction energy first, then any
+    family indicators): the stage chooses between that anchor, the anchor with a ridge
+    correction and the free learner (:mod:`.anchored`)."""
     name = check_learner(name)
     X = np.asarray(X, dtype=float)
     y = np.asarray(y, dtype=float)
+    if warm is not None and warm.get("kind") == "anchored":
+        warm = warm["free"]
+    if anchor:
+        return _anchored_fit(name, X, y, random_state, warm, effort, list(anchor))
     if name == "auto":
         return _auto_fit(X, y, random_state, warm)
     if name == "ridge":
@@ -329,11 +338,36 @@ def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, *,
     return _forest_fit(X, y, random_state, REFIT_FOREST_TREES if effort == "refit" else FOREST_TREES)
 
 
+def _anchored_fit(name, X, y, random_state, warm, effort, anchor) -> dict:
+    """The free learner, then the anchored candidates against it (:func:`.anchored.choose`)."""
+    from . import anchored
+
+    free = fit_state(name, X, y, random_state, warm=warm, effort=effort)
+    kind = free["kind"]
+
+    def refit_free(train):
+        # The end splits refit the learner that was chosen, at its hyper-parameters (a GP's are
+        # held: the score compares model forms, not searches).
+        again = {**free, "fixed": True} if kind == "gp" else None
+        return fit_state(kind, X[train], y[train], random_state, warm=again, effort="refit")
+
+    try:
+        return anchored.choose(X, y, anchor, free, refit_free)
+    except (ValueError, np.linalg.LinAlgError) as exc:
+        return {**free, "anchor_note": f"not anchored: {exc}"}
+
+
 def predict_state(state: dict, X: np.ndarray, with_excess: bool = False):
     """(mean, predictive standard deviation) of a fitted learner state, in y's unit; with
     ``with_excess`` also each row's manifold excess (zero for GP and forest, whose predictions
     stay within the training targets by themselves)."""
     X = np.asarray(X, dtype=float)
+    if state["kind"] == "anchored":
+        from .anchored import chosen_state, predict_anchored
+
+        if state["choice"] == "free":
+            return predict_state(state["free"], X, with_excess)
+        return predict_anchored(chosen_state(state), X, with_excess)
     if state["kind"] in ("ridge", "pls"):
         return (ridge.predict if state["kind"] == "ridge" else _pls_predict)(state, X, with_excess)
     mean, std = {"gp": _gp_predict, "forest": _forest_predict}[state["kind"]](state, X)
@@ -344,7 +378,7 @@ def manifold_excess(state: dict, X: np.ndarray) -> np.ndarray:
     """How far the guard moved each row's prediction, in the learner's residual standard
     deviations (0: untouched); linear learners only (GP and forest predictions stay within
     the training targets by themselves)."""
-    if state["kind"] in ("ridge", "pls") and "vt" in state:
+    if (state["kind"] in ("ridge", "pls") and "vt" in state) or state["kind"] == "anchored":
         return predict_state(state, np.asarray(X, dtype=float), with_excess=True)[2]
     return np.zeros(np.shape(X)[0])
 
@@ -352,5 +386,9 @@ def manifold_excess(state: dict, X: np.ndarray) -> np.ndarray:
 def loo_residuals(state: dict) -> np.ndarray | None:
     """Exact leave-one-out residuals (observed − predicted) where the learner gives them in
     closed form (ridge), else None."""
+    if state["kind"] == "anchored":
+        from .anchored import chosen_state
+
+        state = chosen_state(state)
     r = state.get("loo_residuals")
     return None if r is None else np.asarray(r, dtype=float)

@@ -102,6 +102,11 @@ class TwoStageRegressor(EnergyRouteMixin, RegressorProtocol):
     curve_intervals : {"none", "profile", "wald", "bootstrap"}
         Parameter intervals of the curve ("none" is fast, for use inside validation loops).
     random_state : int
+    anchor, fixed : str or None, tuple of str
+        The energy stage's anchor: a column of D holding a computed reaction energy, fitted
+        unpenalised (see :class:`DescriptorRegressor`); ``fixed`` further unpenalised columns.
+        Energies predicted through the anchor are not clipped to the training span: following
+        the computed energy beyond the members is the anchor's purpose.
     energy_column : int, str or None
         None: the reaction energies are passed as ``fit(X, y, energy=E)`` (required) and
         ``predict(X, energy=E)`` (optional: NaN or None means "predict it"). A column position
@@ -120,12 +125,14 @@ class TwoStageRegressor(EnergyRouteMixin, RegressorProtocol):
     _poor_score = True   # the barrier follows one column of X through the curve
 
     def __init__(self, learner: str = "ridge", relation: str = "asymptotic", curve_intervals: str = "none",
-                 random_state: int = 0, *, energy_column=None):
+                 random_state: int = 0, *, energy_column=None, anchor=None, fixed=()):
         self.learner = learner
         self.relation = relation
         self.curve_intervals = curve_intervals
         self.random_state = random_state
         self.energy_column = energy_column
+        self.anchor = anchor
+        self.fixed = fixed
 
     def fit(self, X, y, energy=None):
         """Fit both stages.
@@ -142,7 +149,8 @@ class TwoStageRegressor(EnergyRouteMixin, RegressorProtocol):
         barrier = self._validate_y(y, energy.size)
         if not np.all(np.isfinite(energy)):
             raise ValueError("every training member needs a finite reaction energy")
-        self.energy_ = DescriptorRegressor(self.learner, self.random_state).fit(D, energy) if D is not None else None
+        self.energy_ = (DescriptorRegressor(self.learner, self.random_state, anchor=self.anchor, fixed=self.fixed)
+                        .fit(D, energy) if D is not None else None)
         self.curve_ = CurveRegressor(self.relation, intervals=self.curve_intervals).fit(energy, barrier)
         return self
 
@@ -165,7 +173,8 @@ class TwoStageRegressor(EnergyRouteMixin, RegressorProtocol):
             detail = self.energy_.predict_detail(D)
             Z = detail["Z"]
             e[need], e_std[need] = detail["mean"][need], detail["std"][need]
-            e[need], clipped[need] = clip_energy(e[need], *self.curve_.energy_range_)
+            free = need & ~self.energy_.anchored_rows(D)
+            e[free], clipped[free] = clip_energy(e[free], *self.curve_.energy_range_)
             off[need] = detail["excess"][need] > GUARD_FLAG
         elif need.any():
             raise ValueError("this model has no energy stage: every member needs a reaction energy")

@@ -34,7 +34,7 @@ _SCHEMA = {
     "domain": {"k": int, "quantile": float, "energy_range": list},
     "training": {"n": int}, "validation": dict,
 }
-_OPTIONAL_DICTS = ("hybrid", "direct", "prediction_intervals", "joint")
+_OPTIONAL_DICTS = ("hybrid", "direct", "prediction_intervals", "joint", "structure")
 
 
 def canonical_json(obj) -> str:

@@ -20,7 +20,7 @@ import pandas as pd
 
 from ..errors import FitRefused, DataError, describe_row
 from ..units import to_kcal, unit_mixup_hint
-from .tables import READ_ERROR, ROW, id_column_of, parse_numeric, require_columns, row_ids
+from .tables import READ_ERROR, ROW, decimal_comma_summary, id_column_of, parse_numeric, require_columns, row_ids
 
 #: Two values this close (kcal/mol) count as the same when merging duplicates.
 DUPLICATE_TOLERANCE = 1e-6
@@ -148,12 +148,15 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
     rows = df[ROW].to_numpy()
     bad_rows = {p.row for p in problems}
     ok = np.array([r not in bad_rows for r in rows], dtype=bool)
+    comma = decimal_comma_summary(problems)
+    if comma and (not skip_bad_rows or not ok.any()):
+        raise DataError(f"{source}: {comma}. First rows:\n  {format_problems(problems, limit=5)}")
     if problems and not skip_bad_rows:
         raise DataError(f"{source}: {len(bad_rows)} row(s) cannot be used:\n  {format_problems(problems)}\n"
                          f"fix them, or pass --skip-bad-rows to leave them out (each will be listed)")
     warnings: list[str] = []
     if problems:
-        warnings.append(f"{len(bad_rows)} row(s) left out because of bad values (listed under 'skipped')")
+        warnings.append(f"{len(bad_rows)} row(s) left out because of bad values (each listed with its reason)")
     by_structure = keys is not None
     if keys is None and (id_col or id_column_of(df.columns) is not None):
         keys = ids
@@ -171,9 +174,9 @@ def load_pairs(df: pd.DataFrame, source: str, energy_col: str, barrier_col: str,
                              f"{format_problems(conflicts)}\n{collision_advice(by_structure, conflicts)}")
         if conflicts:
             warnings.append(f"{len(conflicts)} row(s) left out because they collide with another row of different "
-                            f"energies (listed under 'skipped')")
+                            f"energies (each listed with its reason)")
             problems = sorted(problems + conflicts, key=lambda p: p.row)
-    hint = unit_mixup_hint(values["barrier"][ok], unit)
+    hint = unit_mixup_hint(values["barrier"][ok], unit, values["energy"][ok])
     if hint:
         warnings.append(hint)
     return Pairs(ids=[ids.iloc[i] for i in np.flatnonzero(ok)], rows=rows[ok], energy=values["energy"][ok],

@@ -10,6 +10,7 @@ file and the problem.
 from __future__ import annotations
 
 import os
+import re
 from collections.abc import Iterator
 from pathlib import Path
 
@@ -74,8 +75,30 @@ def require_columns(df: pd.DataFrame, columns, source: str | os.PathLike) -> Non
         if len(have) == 1 and any(d in str(have[0]) for d in (" ", ";", "|", "\t", ",")):
             hint = (" — the whole header reads as one column, so the file is probably delimited by "
                     "something this reader did not recognise (use commas, tabs, semicolons or '|')")
+        guesses = [f"{m!r} → did you mean {g!r}?" for m in missing if (g := closest_column(m, have))]
+        if guesses:
+            hint += " (" + "; ".join(guesses) + ")"
         raise DataError(f"{source}: missing column(s) {', '.join(map(repr, missing))}; "
                          f"the file has {', '.join(map(repr, have)) or 'no columns'}{hint}")
+
+
+def _squash(name) -> str:
+    return "".join(ch for ch in str(name).lower() if ch.isalnum())
+
+
+def closest_column(name: str, columns) -> str | None:
+    """The column ``name`` was probably meant to be: the same but for case, spaces, underscores
+    or hyphens, else the closest spelling (difflib ratio ≥ 0.8), else None."""
+    import difflib
+
+    columns = [str(c) for c in columns]
+    same = [c for c in columns if _squash(c) == _squash(name)]
+    if same:
+        return same[0]
+    close = difflib.get_close_matches(str(name).lower(), [c.lower() for c in columns], n=1, cutoff=0.8)
+    if close:
+        return next(c for c in columns if c.lower() == close[0])
+    return None
 
 
 def parse_numeric(values: pd.Series, column: str) -> tuple[np.ndarray, list[tuple[int, str]]]:
@@ -100,10 +123,27 @@ def parse_numeric(values: pd.Series, column: str) -> tuple[np.ndarray, list[tupl
             msg = f"column {column!r} holds NaN (a missing value)"
         elif np.isinf(out[pos]):
             msg = f"column {column!r} holds an infinite value"
+        elif _DECIMAL_COMMA.match(cell):
+            msg = (f"{cell!r} in column {column!r} is not a number: it has a decimal comma (write "
+                   f"{cell.replace(',', '.')!r}; a spreadsheet saved with a decimal comma can be saved again with a "
+                   f"decimal point, or as .xlsx, which keeps numbers as numbers)")
         else:
             msg = f"{cell!r} in column {column!r} is not a number"
         problems.append((int(pos), msg))
     return out, problems
+
+
+#: A number written with a decimal comma ("-12,5", "3,14e2").
+_DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+([eE][+-]?\d+)?$")
+
+
+def decimal_comma_summary(problems) -> str | None:
+    """One line when most bad cells are decimal-comma numbers: the file's convention, not its rows."""
+    commas = sum("decimal comma" in str(getattr(p, "message", p)) for p in problems)
+    if commas >= 3 and commas >= 0.5 * len(problems):
+        return (f"{commas} cells hold numbers with a decimal comma: the file uses a comma as the decimal separator. "
+                f"Save it with a decimal point (or as .xlsx) and run again; --skip-bad-rows would leave those rows out")
+    return None
 
 
 #: Columns taken as ids without --id, first found (any case): what chemists' tables call them.

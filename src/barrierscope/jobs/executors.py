@@ -12,9 +12,16 @@ from collections.abc import Callable, Iterable, Iterator
 
 
 def _worker_init() -> None:
+    import signal
+
     # Each worker does small molecules one at a time: one BLAS/OpenMP thread each.
     for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ[var] = "1"
+    # The command's stop handlers (forked with it) belong to the main process, which cleans up;
+    # a worker simply ends.
+    for name in ("SIGTERM", "SIGHUP"):
+        if hasattr(signal, name):
+            signal.signal(getattr(signal, name), signal.SIG_DFL)
 
 
 class SerialExecutor:

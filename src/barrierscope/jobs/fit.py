@@ -25,7 +25,7 @@ from ..validation.splits import REGIMES
 from ..validation.verdict import primary_route, recommendation
 from .members import prepare_members
 from .model import FamilyModel
-from .records import FitRecord, IntervalsRecord
+from .records import AnchorRecord, FitRecord, IntervalsRecord
 from ..curves.records import SkippedRow
 from ..records import replace
 from .options import at_least, one_of, option
@@ -54,6 +54,9 @@ class FitOptions:
     share: tuple[str, ...] = ("width",)
     #: the practical margin's floor in ``units`` (None: 0.5 kcal/mol; see validation.metrics)
     margin: float | None = None
+    #: a column of computed reaction energies (in ``units``) the energy stage is anchored on;
+    #: None: the xtb tier's, when computed for every member; "none": never anchored
+    computed_energy: str | None = None
 
 INTERVAL_METHODS = ("model", "jackknife+")
 
@@ -90,19 +93,87 @@ def descriptor_notes(two_stage: TwoStageRegressor, X, energy, learner: str, *, r
     return notes, warnings, importance
 
 
-def fit_routes(X, energy, barrier, opts: FitOptions):
-    """(two_stage, hybrid, direct, domain) fitted on all members."""
+#: The xtb tier's reaction energy: the anchor when it was computed for every member.
+XTB_ENERGY = "reaction_energy_xtb"
+#: Fewest members per family for each family to get its own anchor intercept.
+FAMILY_INTERCEPT_MIN = 3
+
+
+@dataclass(frozen=True)
+class Anchor:
+    """Which column of X the energy stage and the black box are anchored on (None: neither)."""
+
+    column: str | None = None
+    fixed: tuple[str, ...] = ()
+    source: str = ""
+    note: str | None = None
+
+
+def choose_anchor(X, opts: FitOptions, families=None) -> Anchor:
+    """The anchor: the user's --computed-energy column, else the xtb tier's reaction energy
+    when every member has one; with several families of at least :data:`FAMILY_INTERCEPT_MIN`
+    members, each family's indicator is fitted unpenalised too (its own intercept under one
+    slope: the computed method's compression is the method's, not the family's)."""
+    if X is None or X.shape[1] == 0 or (opts.computed_energy or "").lower() == "none":
+        return Anchor()
+    col, source = (opts.computed_energy, "your column") if opts.computed_energy else (XTB_ENERGY, "xtb tier")
+    if col not in X.columns:
+        return Anchor()
+    missing = int((~np.isfinite(X[col].to_numpy(dtype=float))).sum())
+    if missing:
+        return Anchor(note=f"the energy stage is not anchored on {col}: {missing} member(s) have none (the "
+                           f"calculation failed for them)")
+    fixed = ()
+    if families is not None:
+        counts = np.unique(np.asarray(families, dtype=object), return_counts=True)[1]
+        if counts.min() >= FAMILY_INTERCEPT_MIN:
+            fixed = tuple(c for c in X.columns if str(c).startswith("family="))
+    return Anchor(column=col, fixed=fixed, source=source)
+
+
+def anchor_record(anchor: Anchor, two_stage, direct) -> AnchorRecord | None:
+    """The energy stage's calibration on its anchor, for the record (None: not anchored)."""
+    if anchor.column is None or two_stage.energy_ is None:
+        return None
+    cal = two_stage.energy_.calibration()
+    if cal is None:
+        return None
+    return AnchorRecord(column=anchor.column, source=anchor.source, a=cal["a"], a_ci95=cal["a_ci95"], b=cal["b"],
+                        b_ci95=cal["b_ci95"], residual_sd=cal["residual_sd"], n=cal["n"], choice=cal["choice"],
+                        scores=cal["scores"], black_box_choice=direct.chosen_learner if direct is not None else "",
+                        per_family_intercepts=bool(anchor.fixed))
+
+
+def fit_routes(X, energy, barrier, opts: FitOptions, anchor: Anchor = Anchor()):
+    """(two_stage, hybrid, direct, domain, structure) fitted on all members; ``structure`` the
+    structure-dependent curve (None without descriptors, or when it cannot be fitted); the
+    energy stage and the black box anchored alike on ``anchor``."""
     has_x = X is not None and X.shape[1] > 0
+    a = dict(anchor=anchor.column, fixed=anchor.fixed)
     two_stage = TwoStageRegressor(opts.learner, opts.relation, curve_intervals="profile",
-                                  random_state=opts.random_state).fit(X if has_x else None, barrier, energy)
+                                  random_state=opts.random_state, **a).fit(X if has_x else None, barrier, energy)
     relation = two_stage.curve_.relation_.name
     hybrid = direct = None
     Z = None
     if has_x:
-        hybrid = HybridRegressor(opts.learner, relation, opts.random_state).fit(X, barrier, energy)
-        direct = DescriptorRegressor(opts.learner, opts.random_state).fit(X, barrier)
+        hybrid = HybridRegressor(opts.learner, relation, opts.random_state, **a).fit(X, barrier, energy)
+        direct = DescriptorRegressor(opts.learner, opts.random_state, **a).fit(X, barrier)
         Z = two_stage.energy_.standardise(X)
-    return two_stage, hybrid, direct, ApplicabilityDomain().fit(Z, energy)
+    return two_stage, hybrid, direct, ApplicabilityDomain().fit(Z, energy), _structure_curve(X, energy, barrier,
+                                                                                               two_stage.curve_)
+
+
+def _structure_curve(X, energy, barrier, curve):
+    """The structure-dependent curve on every member, started from the plain curve."""
+    from ..curves.structure import StructureCurve
+    from ..validation.routes import structure_relation
+
+    if X is None or X.shape[1] == 0:
+        return None
+    try:
+        return StructureCurve(structure_relation(curve.relation_)).fit(X, energy, barrier, theta_start=curve.params_)
+    except (ValueError, np.linalg.LinAlgError):
+        return None
 
 
 def margin_kcal(margin: float | None, unit: str) -> float:
@@ -131,6 +202,13 @@ def check_options(opts: FitOptions) -> tuple[str, str]:
     if opts.family_column and opts.prediction_intervals != "model":
         raise InputError("--prediction-intervals jackknife+ is not available with --family yet: its refits know one "
                          "curve, not each family's")
+    ce = opts.computed_energy
+    if ce and ce.lower() != "none" and ce in (opts.energy_column, opts.barrier_column):
+        raise InputError(f"--computed-energy {ce!r} is the {'reaction energy' if ce == opts.energy_column else 'barrier'} "
+                         f"column itself: give the column of cheaply computed reaction energies (GFN2-xTB, a smaller "
+                         f"basis...) that stands beside the reference ones")
+    if ce and ce in opts.extra_descriptors:
+        raise InputError(f"--computed-energy {ce!r} is also in --extra-descriptors: name it once")
     return kind, unit
 
 
@@ -141,12 +219,13 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
     has_x = X is not None and X.shape[1] > 0
     _check_sizes(pairs.n, has_x, opts)
     energy, barrier = pairs.energy, pairs.barrier
+    anchor = choose_anchor(X if has_x else None, opts, pairs.families)
     try:
-        two_stage, hybrid, direct, domain = fit_routes(X, energy, barrier, opts)
+        two_stage, hybrid, direct, domain, structure = fit_routes(X, energy, barrier, opts, anchor)
     except FitError as exc:      # the data cannot support a curve (no span, say): the chemist's to know
         raise FitRefused(str(exc)) from None
     curve = two_stage.curve_
-    warnings, notes, importance = list(pairs.warnings), [], {}
+    warnings, notes, importance = list(pairs.warnings), [anchor.note] if anchor.note else [], {}
     if curve.fit_.at_bound:
         warnings.append(f"curve parameter(s) {', '.join(curve.fit_.at_bound)} at the edge of the search range: "
                         f"see the identifiability verdict")
@@ -160,7 +239,8 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
                      f"search in every validation split would cost O(n³) each step)")
     checked = validate(X if has_x else None, energy, barrier, pairs.ids,
                        opts=ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, opts.n_shuffles,
-                                              opts.regimes, margin=margin_kcal(opts.margin, unit)))
+                                              opts.regimes, margin=margin_kcal(opts.margin, unit),
+                                              anchor=anchor.column, fixed=anchor.fixed))
     primary = primary_route(checked.validation["loo"], checked.routes) if has_x else "two_stage"
     notes += checked.notes
     hammett = None
@@ -172,7 +252,7 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
     if opts.family_column:
         joint, primary, family_fields = _families(energy, barrier, pairs.families, checked, primary=primary, opts=opts, notes=notes)
     jackknife, intervals, regimes, more = prediction_intervals(X if has_x else None, energy, barrier, primary,
-                                                               checked=checked, opts=opts)
+                                                               checked=checked, opts=opts, anchor=anchor)
     notes += more
     tiers = list(getattr(engine, "tiers", ())) if has_x else []
     fields = {f: getattr(checked, f) for f in ("routes", "energy_stage", "comparison", "winner", "members",
@@ -186,13 +266,15 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
         requested_relation=opts.relation, features=list(X.columns) if has_x else [], tiers=tiers,
         primary_route=primary, curve=curve.record(), validation=regimes, **fields,
         energy_stage_importance=importance, intervals=intervals, hammett=hammett, **family_fields,
+        anchor=anchor_record(anchor, two_stage, direct if has_x else None),
         warnings=warnings, notes=notes,
         skipped=[SkippedRow(row=p.row, id=p.ident, problem=p.message) for p in pairs.skipped])
     model = FamilyModel(
         spec=spec, tiers=tuple(tiers), features=record.features,
-        extra_descriptors=list(opts.extra_descriptors), learner=opts.learner, relation=opts.relation, units=unit,
+        extra_descriptors=list(opts.extra_descriptors), computed_energy=anchor.column if anchor.source == "your column"
+        else None, learner=opts.learner, relation=opts.relation, units=unit,
         energy_kind=kind, energy_column=opts.energy_column, barrier_column=opts.barrier_column,
-        two_stage=two_stage, hybrid=hybrid, direct=direct, domain=domain,
+        two_stage=two_stage, hybrid=hybrid, direct=direct, domain=domain, structure=structure,
         training={"n": pairs.n, "ids": pairs.ids, "rows": [int(r) for r in pairs.rows],
                   "keys": pairs.keys if spec.mode != "none" else None,
                   "energy": energy.tolist(), "barrier": barrier.tolist(),
@@ -218,13 +300,13 @@ def _families(energy, barrier, labels, checked, *, primary: str, opts: FitOption
                                       "asymptotic", share=opts.share, energy_pred=e_loo)
     fields = {"families": rec.families, "shared": rec.shared, "sharing_test": rec.sharing_test,
               "family_validation": rec.validation, "family_names": names, "family_column": opts.family_column}
-    if primary == "hybrid":
-        notes.append("the hybrid route is not offered with --family (its correction is learned for one "
-                     "curve); the model predicts through each family's own curve")
+    if primary in ("hybrid", "structure_curve"):
+        notes.append(f"the {primary.replace('_', ' ')} route is not offered with --family (it is learned for one "
+                     f"curve); the model predicts through each family's own curve")
     return {"fit": fit, "names": names}, ("direct" if primary == "direct" else "two_stage"), fields
 
 
-def prediction_intervals(X, energy, barrier, primary: str, *, checked, opts: FitOptions):
+def prediction_intervals(X, energy, barrier, primary: str, *, checked, opts: FitOptions, anchor: Anchor = Anchor()):
     """(JackknifePlus or None, the record's ``intervals``, the regimes with jackknife+ coverage
     added, notes): which intervals the model uses, their measured coverage per regime, and a
     note when the model's own intervals miss their nominal level in leave-one-out."""
@@ -241,12 +323,14 @@ def prediction_intervals(X, energy, barrier, primary: str, *, checked, opts: Fit
                      f"builds them from the family's held-out errors instead")
     if opts.prediction_intervals == "model":
         return None, IntervalsRecord(method="model", route=route, level=opts.level), checked.validation, notes
-    vopts = ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, 0, opts.regimes)
+    vopts = ValidationOptions(opts.learner, opts.relation, opts.level, opts.random_state, 0, opts.regimes,
+                              anchor=anchor.column, fixed=anchor.fixed)
     routes = (route, "curve_on_true_energy") if X is not None else (route,)
     coverage = coverage_by_regime(X, energy, barrier, routes, opts=vopts)
     regimes = {name: (replace(r, jackknife_plus=coverage[name]) if name in coverage else r)
                for name, r in checked.validation.items()}
-    fitted = JackknifePlus(primary, opts.learner, opts.relation, opts.level, random_state=opts.random_state).fit(X, barrier, energy)
+    fitted = JackknifePlus(primary, opts.learner, opts.relation, opts.level, random_state=opts.random_state,
+                           anchor=anchor.column, fixed=anchor.fixed).fit(X, barrier, energy)
     return fitted, IntervalsRecord(method=fitted.method, route=route, level=opts.level,
                                    folds=len(fitted.folds_)), regimes, notes
 

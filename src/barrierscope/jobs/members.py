@@ -30,6 +30,20 @@ def _extra_matrix(df: pd.DataFrame, columns: list[str], ids: pd.Series, source: 
     return pd.DataFrame(data, index=df.index), problems
 
 
+def computed_energy_column(df: pd.DataFrame, column: str, ids: pd.Series, source: str, unit: str):
+    """The chemist's computed reaction energies (``column``, in ``unit``) in kcal/mol, as a
+    one-column DataFrame, and the rows without a usable one (every member needs it: it anchors
+    the energy stage)."""
+    from ..units import factor_to_kcal
+
+    require_columns(df, [column], source)
+    values, bad = parse_numeric(df[column].reset_index(drop=True), column)
+    rows = df[ROW].to_numpy()
+    problems = [RowProblem(int(rows[pos]), ids.iloc[pos], f"{msg} (the computed reaction energy, --computed-energy)")
+                for pos, msg in bad]
+    return pd.DataFrame({column: values * factor_to_kcal(unit)}, index=df.index), problems
+
+
 def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, *, opts):
     """Descriptors, energies and barriers of the usable members; problems name their rows."""
     unit = normalize_unit(opts.units)
@@ -55,6 +69,11 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, *, o
         extra, bad = _extra_matrix(df, opts.extra_descriptors, ids, source)
         problems += bad
         X = extra if X is None else pd.concat([X, extra], axis=1)
+    computed = getattr(opts, "computed_energy", None)
+    if computed and computed.lower() != "none":
+        col, bad = computed_energy_column(df, computed, ids, source, unit)
+        problems += bad
+        X = col if X is None else pd.concat([X.drop(columns=[computed], errors="ignore"), col], axis=1)
     labels = None
     if getattr(opts, "family_column", None):
         from .families import family_labels, one_hot

@@ -18,6 +18,7 @@ from ..estimators.domain import ApplicabilityDomain
 from ..estimators.hybrid import HybridRegressor
 from ..curves.intervals import t_quantile
 from ..curves.joint import JointFit
+from ..curves.structure import StructureCurve
 from ..estimators.jackknife import JackknifePlus
 from ..estimators.two_stage import TwoStageRegressor, known_energies, n_rows
 from ..structures.spec import InputSpec
@@ -52,6 +53,12 @@ class FamilyModel:
     #: ({"fit": JointFit, "names": [family, ...]})
     family_column: str | None = None
     joint: dict | None = None
+    #: the curve whose intrinsic barrier moves with the descriptors (curves.structure); None
+    #: without descriptors
+    structure: object = None
+    #: the table column of computed reaction energies (in ``units``) the energy stage is anchored
+    #: on (--computed-energy); a library gives its own values there. None: not a user column
+    computed_energy: str | None = None
 
     def family_floors(self) -> np.ndarray:
         """Each family's floor (kcal/mol), in code order (several-families models)."""
@@ -98,6 +105,14 @@ class FamilyModel:
             hb = self.hybrid.predict_parts(X, given, two_stage_parts=ts)
             barrier[unknown], std[unknown], q[unknown] = hb["barrier"][unknown], hb["barrier_std"][unknown], z
             route[unknown] = "hybrid"
+        elif self.primary_route == "structure_curve" and self.structure is not None and self.joint is None:
+            # Every row through the structure curve: at its given or predicted reaction energy.
+            sc = self.structure
+            e_sd = np.where(ts["energy_given"], 0.0, ts["energy_std"])
+            barrier, std = sc.predict(X, ts["energy"]), sc.predict_std(X, ts["energy"], e_sd)
+            ts["alpha"] = sc.slope(X, ts["energy"])
+            q = np.full(n, sc.interval_quantile(self.level))
+            route = np.where(unknown, "structure_curve", "structure_curve_on_given_energy").astype(object)
         elif self.primary_route == "direct" and unknown.any():  # (with families: one-hot offsets in X)
             db, ds = self.direct.predict(X, return_std=True)
             barrier[unknown], std[unknown], q[unknown] = db[unknown], ds[unknown], z
@@ -139,6 +154,8 @@ class FamilyModel:
             "family_column": self.family_column,
             "joint": None if self.joint is None else {"names": self.joint["names"],
                                                       "fit": self.joint["fit"].as_dict()},
+            "structure": None if self.structure is None else self.structure.as_dict(),
+            "computed_energy": self.computed_energy,
         }
 
     @classmethod
@@ -157,4 +174,6 @@ class FamilyModel:
                    intervals=JackknifePlus.from_dict(d["prediction_intervals"]) if d.get("prediction_intervals")
                    else None, family_column=d.get("family_column"),
                    joint=None if not d.get("joint") else {"names": list(d["joint"]["names"]),
-                                                          "fit": JointFit.from_dict(d["joint"]["fit"])})
+                                                          "fit": JointFit.from_dict(d["joint"]["fit"])},
+                   structure=StructureCurve.from_dict(d["structure"]) if d.get("structure") else None,
+                   computed_energy=d.get("computed_energy"))

@@ -64,12 +64,31 @@ def _descriptors(chunk, model, opts, engine, *, status, kind, labels=None):
         if status[i] == OK:
             status[i], kind[i] = block.status[i], block.error_kind[i] or "structure"
     X = block.X
+    notes = block.notes.copy()
+    own = {c: 1.0 for c in model.extra_descriptors}
+    if model.computed_energy:
+        own[model.computed_energy] = factor_to_kcal(opts.energy_units or model.units)
+    missing_note = "no computed reaction energy: the energy stage's free learner predicts this row"
+    for c, factor in own.items():
+        if c not in chunk.columns:
+            if c == model.computed_energy:
+                notes[:] = ["; ".join(v for v in (str(x), missing_note) if v) for x in notes]
+            continue
+        values, problems = parse_numeric(chunk[c].reset_index(drop=True), c)
+        for pos, msg in problems:
+            if "empty cell" in msg or "NaN" in msg:
+                if c == model.computed_energy:
+                    notes[pos] = "; ".join(v for v in (notes[pos], missing_note) if v)
+                continue
+            if status[pos] == OK:
+                status[pos], kind[pos] = msg, "descriptor"
+        X[c] = values * factor
     for c in model.features:
         if c.startswith("family=") and labels is not None:   # the family's indicator (several families)
             X[c] = (labels == c[len("family="):]).astype(float)
         elif c not in X.columns:  # a user's extra descriptor absent here is imputed like any missing value
             X[c] = np.nan
-    return X[model.features], block.notes.copy(), block
+    return X[model.features], notes, block
 
 
 def _families(chunk, model, status, kind):

@@ -96,6 +96,31 @@ class IntervalsRecord(Record):
 
 
 @dataclass(frozen=True)
+class AnchorRecord(Record):
+    """The energy stage anchored on a computed reaction energy (:mod:`..estimators.anchored`):
+    the calibration line reaction energy = a + b·(computed energy) on every member, with 95 %
+    intervals, and which candidate the inner score chose (kcal/mol inside)."""
+
+    column: str = q.text()
+    #: "xtb tier" (GFN2-xTB through the xtb tier) or "your column" (--computed-energy)
+    source: str = q.text()
+    a: float = q.energy()
+    a_ci95: list = q.energy(factory=list)
+    b: float = q.dimensionless()
+    b_ci95: list = q.dimensionless(factory=list)
+    residual_sd: float = q.energy()
+    n: int = q.count()
+    #: the energy stage's choice on every member: "anchor", "anchor+correction" or "free"
+    choice: str = q.text()
+    #: candidate → {"score_rmse", "loo_rmse", "end_rmse": [low end, high end]}, kcal/mol
+    scores: dict = q.energy(factory=dict)
+    #: the black box's choice, anchored on the same column
+    black_box_choice: str = q.text()
+    #: per-family intercepts under a shared slope (several families)
+    per_family_intercepts: bool = q.flag(False)
+
+
+@dataclass(frozen=True)
 class FitRecord(Record):
     """A fitted, validated family (`fit --json`; kcal/mol inside)."""
 
@@ -123,6 +148,8 @@ class FitRecord(Record):
     relations_chosen_in_folds: dict | None = q.quantity(q.COUNT, None, absent=True)
     y_randomization: YRandomization | None = q.nested()
     energy_stage_importance: dict = q.energy(factory=dict)
+    #: the energy stage's anchor on a computed reaction energy (None: not anchored)
+    anchor: AnchorRecord | None = q.nested(None, absent=True)
     intervals: IntervalsRecord | None = q.nested()
     hammett: HammettRecord | None = q.nested(None, absent=True)
     # several families at once (fit --family)

@@ -145,10 +145,12 @@ def _tasks(library, in_fmt, model, opts, *, content, key, chunk_size, fmt, top, 
     needed = list(model.spec.columns) + ([model.spec.multiplicity] if model.spec.multiplicity else [])
     needed += [opts.energy_column] if opts.energy_column else []
     needed += [model.family_column] if model.family_column else []
+    # The user's own descriptor columns and computed energies: read where the library has them.
+    optional = set(model.extra_descriptors) | ({model.computed_energy} if model.computed_energy else set())
     for k, chunk in enumerate(iter_table(library, chunk_size=chunk_size, fmt=in_fmt)):
         require_columns(chunk, needed + ([opts.id_column] if opts.id_column else []), library)
-        keep = [c for c in chunk.columns if c in set(needed) | {ROW, opts.id_column, id_column_of(chunk.columns),
-                                                                READ_ERROR}]
+        keep = [c for c in chunk.columns if c in set(needed) | optional | {ROW, opts.id_column,
+                                                                           id_column_of(chunk.columns), READ_ERROR}]
         yield (content, key, chunk[keep], str(library), opts, fmt, top, part_path(folder, k, fmt) if local else None)
 
 

@@ -78,7 +78,8 @@ def coverage_by_regime(X, energy, barrier, routes, *, opts) -> dict[str, dict]:
     plan = regimes(np.asarray(energy, dtype=float), standardised(X) if has_x else None, opts.random_state,
                    opts.regimes)
     return {name: jackknife_coverage(X if has_x else None, energy, barrier, regime.splits, routes=routes, level=opts.level,
-                                     random_state=opts.random_state, learner=opts.learner, relation=opts.relation)
+                                     random_state=opts.random_state, learner=opts.learner, relation=opts.relation,
+                                     anchor=opts.anchor if has_x else None, fixed=opts.fixed)
             for name, regime in plan.items() if not regime.skipped}
 
 

@@ -75,6 +75,8 @@ class RegimeRecord(Record):
     pairs: dict[str, PairComparison] = q.nested(factory=dict)
     skipped: str = q.text()
     energy_stage: Metrics | None = q.nested()
+    #: with an anchored energy stage: the free learner's energy stage on the same splits
+    energy_stage_free: Metrics | None = q.nested(absent=True)
     curve_beats_mean: bool | None = q.flag()
     jackknife_plus: dict[str, JackknifeCoverage] = q.nested(factory=dict)
     #: target ("energy_stage", "direct") → {learner: splits it predicted in} (``auto`` chooses per split)

@@ -8,6 +8,9 @@ hybrid's nested out-of-fold residuals — and predicts the test members. The rou
 - ``hybrid`` — two-stage plus a correction learned from its out-of-fold residuals;
 - ``direct`` — the black box: the same descriptors → barrier, same learner, same tuning;
 - ``curve_on_true_energy`` — the curve fed the member's own reaction energy;
+- ``structure_curve`` — energy stage, then the curve whose intrinsic barrier moves with the
+  descriptors (:mod:`..curves.structure`);
+- ``structure_curve_on_true_energy`` — that curve fed the member's own reaction energy;
 - ``family_mean`` — the mean barrier of the training members (what any route must beat).
 
 The curve fits of all splits are solved together (:func:`..curves.batch.fit_subsets`),
@@ -36,8 +39,13 @@ from ..estimators.two_stage import clip_energy, rows
 from ..relations import RELATIONS, get_relation
 from .splits import Split, held_out_sets
 
-ROUTES = ("two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean")
-DESCRIPTOR_ROUTES = ("two_stage", "hybrid", "direct")
+ROUTES = ("two_stage", "hybrid", "direct", "structure_curve", "curve_on_true_energy", "structure_curve_on_true_energy",
+          "family_mean")
+DESCRIPTOR_ROUTES = ("two_stage", "hybrid", "direct", "structure_curve", "structure_curve_on_true_energy")
+STRUCTURE_ROUTES = ("structure_curve", "structure_curve_on_true_energy")
+#: Above this many splits the structure curve's penalty is chosen once per block of splits (on
+#: members none of the block holds out), each split then fitting at its block's penalty.
+STRUCTURE_BLOCKS = 10
 
 
 @dataclass
@@ -92,6 +100,8 @@ class OutOfFold:
     by_split: dict[str, list] = field(default_factory=dict)
     #: target ("energy_stage", "direct") → the learner that predicted in each split
     learners: dict[str, list] = field(default_factory=dict)
+    #: an anchored energy stage: the free learner's predicted reaction energies beside it
+    energy_free: np.ndarray | None = None
 
     def _put(self, route, idx, values):
         """Store ``values`` = (mean, std, low, high) of the members ``idx`` under ``route``."""
@@ -195,15 +205,21 @@ def _nested_curve_barriers(curves: FoldCurves, x, y, splits, e_oof) -> list[np.n
 
 
 def _fold_fits(X, targets, splits, learner, *, random_state, oof: bool = False, designs: dict | None = None,
-               warm=None) -> list[dict]:
+               warm=None, anchor=None, fixed=()) -> list[dict]:
     """Per split: the learner fitted on its training members' targets (``targets``: one value
     per member, or a list with each split's training targets) — test predictions (``pred``,
     ``sd``), manifold ``excess``, standardised descriptors (``Z``, ``Zt``) and, with ``oof``, the
     training members' out-of-fold predictions. Ridge on equal-size splits is fitted for all
     splits at once (:class:`..estimators.ridge.FoldDesign`, the same numbers); ``designs``
     keeps the descriptor side of such fits for other targets on the same splits; ``warm`` (a
-    fitted DescriptorRegressor) starts the other learners' hyper-parameter searches."""
+    fitted DescriptorRegressor) starts the other learners' hyper-parameter searches. With
+    ``anchor`` (and ``fixed``) every split fits the anchored stage (:mod:`..estimators.anchored`),
+    choosing its candidate inside the split; ``free_pred`` then holds the free learner's test
+    predictions and ``anchored`` the test members predicted through the anchor."""
     per_split = [targets[s.train] for s in splits] if isinstance(targets, np.ndarray) else list(targets)
+    if anchor is not None:
+        return _plain_fold_fits(X, per_split, splits, learner, random_state=random_state, oof=oof, warm=warm,
+                                anchor=anchor, fixed=fixed)
     if learner == "auto":
         return _auto_fold_fits(X, per_split, splits, random_state=random_state, oof=oof, designs=designs, warm=warm)
     if learner == "ridge" and len({(s.train.size, s.test.size) for s in splits}) == 1:
@@ -212,16 +228,28 @@ def _fold_fits(X, targets, splits, learner, *, random_state, oof: bool = False, 
         return [{"pred": r["pred"][k], "sd": r["sd"][k], "excess": r["excess"][k], "Z": design.Z[k],
                  "Zt": design.Zt[k], "oof": per_split[k] - r["loo"][k], "inner_mse": float(r["mse"][k]),
                  "learner": "ridge"} for k in range(len(splits))]
+    return _plain_fold_fits(X, per_split, splits, learner, random_state=random_state, oof=oof, warm=warm)
+
+
+def _plain_fold_fits(X, per_split, splits, learner, *, random_state, oof, warm, anchor=None, fixed=()) -> list[dict]:
+    """:func:`_fold_fits` one split at a time (any learner; the anchored stage)."""
+    from ..estimators.learners import predict_state
+
     out = []
     starts = _gp_block_hypers(X, per_split, splits, random_state=random_state, warm=warm) if learner == "gp" \
         else [warm] * len(splits)
     for s, t, start in zip(splits, per_split, starts):
         Xtr, Xte = rows(X, s.train), rows(X, s.test)
-        reg = DescriptorRegressor(learner, random_state, effort="refit").fit(Xtr, t, warm_start=start)
-        pred, sd = reg.predict(Xte, return_std=True)
-        fit = {"pred": pred, "sd": sd, "excess": reg.manifold_excess(Xte), "Z": reg.standardise(Xtr),
-               "Zt": reg.standardise(Xte), "capped": int(reg.state_.get("capped", 0)),
-               "inner_mse": inner_mse(reg.state_), "learner": reg.chosen_learner}
+        reg = DescriptorRegressor(learner, random_state, effort="refit", anchor=anchor, fixed=fixed).fit(
+            Xtr, t, warm_start=start)
+        detail = reg.predict_detail(Xte)
+        state = reg.state_
+        fit = {"pred": detail["mean"], "sd": detail["std"], "excess": detail["excess"], "Z": reg.standardise(Xtr),
+               "Zt": detail["Z"], "capped": int(state.get("capped", state.get("free", {}).get("capped", 0))),
+               "inner_mse": inner_mse(state), "learner": reg.chosen_learner,
+               "anchored": reg.anchored_rows(Xte)}
+        if state["kind"] == "anchored":
+            fit["free_pred"] = predict_state(state["free"], detail["Z"])[0]
         if oof:
             fit["oof"] = out_of_fold_energy(Xtr, t, learner, random_state, fitted=reg)
         out.append(fit)
@@ -271,13 +299,13 @@ def _auto_fold_fits(X, per_split, splits, *, random_state, oof, designs, warm) -
     return [min((fits[name][k] for name in names), key=lambda f: f["inner_mse"]) for k in range(len(splits))]
 
 
-def _family_fit(X, target, learner: str, random_state: int, designs: dict | None):
+def _family_fit(X, target, learner: str, random_state: int, designs: dict | None, anchor=None, fixed=()):
     """The learner fitted on every member (the splits' warm start), kept in ``designs`` so the
     regimes of one validation, which share X and the targets, fit it once."""
-    key = ("family", id(X), learner, random_state, np.asarray(target, dtype=float).tobytes())
+    key = ("family", id(X), learner, random_state, np.asarray(target, dtype=float).tobytes(), anchor, tuple(fixed))
     if designs is not None and key in designs:
         return designs[key]
-    reg = DescriptorRegressor(learner, random_state).fit(X, target)
+    reg = DescriptorRegressor(learner, random_state, anchor=anchor, fixed=fixed).fit(X, target)
     if designs is not None:
         designs[key] = reg
     return reg
@@ -299,10 +327,12 @@ def _design(X, splits, designs):
 
 def out_of_fold(X, energy, barrier, splits: list[Split], *, learner: str = "ridge", relation: str = "asymptotic",
                 level: float = 0.90, random_state: int = 0, routes=ROUTES, domain: bool = True,
-                designs: dict | None = None) -> OutOfFold:
+                designs: dict | None = None, anchor=None, fixed=()) -> OutOfFold:
     """Out-of-fold predictions and ``level`` intervals of every route in ``routes``; with
     ``domain``, each held-out member's applicability-domain distance as its split sees it;
-    ``designs`` (a dict) shares the ridge folds' descriptor side between calls on the same X."""
+    ``designs`` (a dict) shares the ridge folds' descriptor side between calls on the same X;
+    ``anchor``/``fixed``: the energy stage and the black box anchored on that column of X (a
+    computed reaction energy, :mod:`..estimators.anchored`), both alike."""
     x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
     n = x.size
     has_x = X is not None and np.shape(X)[1] > 0
@@ -322,12 +352,76 @@ def out_of_fold(X, energy, barrier, splits: list[Split], *, learner: str = "ridg
             q = t_quantile(level, max(yt.size - 1, 1))
             out._put("family_mean", s.test, (yt.mean(), sd, yt.mean() - q * sd, yt.mean() + q * sd))
     if has_x:
-        _descriptor_routes(out, X, x, y, splits=splits, curves=curves, learner=learner, random_state=random_state, level=level, routes=routes, domain=domain,
-                           designs={} if designs is None else designs)
+        e_split = _descriptor_routes(out, X, x, y, splits=splits, curves=curves, learner=learner,
+                                     random_state=random_state, level=level, routes=routes, domain=domain,
+                                     designs={} if designs is None else designs, anchor=anchor, fixed=fixed)
+        if any(r in routes for r in STRUCTURE_ROUTES):
+            _structure_routes(out, X, x, y, splits=splits, curves=curves, e_split=e_split, level=level, routes=routes)
     return out
 
 
-def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, level, routes, domain, designs) -> None:
+def _structure_penalties(X, x, y, splits, curves) -> list:
+    """Each split's penalty tuple: all of them (chosen inside the split) for few splits; with
+    many, the penalty a block of splits' common training members chose."""
+    from ..curves.structure import PENALTIES, StructureCurve
+
+    if len(splits) <= STRUCTURE_BLOCKS:
+        return [PENALTIES] * len(splits)
+    out = [PENALTIES] * len(splits)
+    for block in np.array_split(np.arange(len(splits)), STRUCTURE_BLOCKS):
+        held = np.unique(np.concatenate([splits[k].test for k in block]))
+        train = splits[block[0]].train
+        keep = train[np.isin(train, held, invert=True)]
+        if keep.size < max(8, train.size // 2):
+            continue
+        rel = structure_relation(curves.relations[block[0]])
+        try:
+            sc = StructureCurve(rel).fit(rows(X, keep), x[keep], y[keep], theta_start=curves.theta[block[0]])
+        except (ValueError, np.linalg.LinAlgError):
+            continue
+        for k in block:
+            out[k] = (sc.penalty_,)
+    return out
+
+
+def structure_relation(relation) -> str:
+    """The relation a structure curve uses: the curve's own when it has a moving form."""
+    from ..curves.structure import MOVING
+
+    name = getattr(relation, "name", relation)
+    return name if name in MOVING else "asymptotic"
+
+
+def _structure_routes(out, X, x, y, *, splits, curves, e_split, level, routes) -> None:
+    """Per split: the structure curve fitted on the training members (their true reaction
+    energies), predicting the test members at their predicted (``structure_curve``) and true
+    (``structure_curve_on_true_energy``) reaction energies. A split whose fit fails leaves its
+    members without these two predictions (NaN), and says nothing false."""
+    from ..curves.structure import StructureCurve
+
+    penalties = _structure_penalties(X, x, y, splits, curves)
+    for k, s in enumerate(splits):
+        rel = structure_relation(curves.relations[k])
+        try:
+            sc = StructureCurve(rel, penalties=penalties[k]).fit(rows(X, s.train), x[s.train], y[s.train],
+                                                                 theta_start=curves.theta[k])
+        except (ValueError, np.linalg.LinAlgError):
+            continue
+        Xt = rows(X, s.test)
+        q = sc.interval_quantile(level)
+        if "structure_curve_on_true_energy" in routes:
+            b, sd = sc.predict(Xt, x[s.test]), sc.predict_std(Xt, x[s.test])
+            out._put("structure_curve_on_true_energy", s.test, (b, sd, b - q * sd, b + q * sd))
+        if "structure_curve" in routes:
+            e_hat, e_sd = e_split[k]
+            b, sd = sc.predict(Xt, e_hat), sc.predict_std(Xt, e_hat, e_sd)
+            out._put("structure_curve", s.test, (b, sd, b - q * sd, b + q * sd))
+
+
+def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, level, routes, domain, designs,
+                       anchor=None, fixed=()) -> list:
+    """The descriptor routes of every split into ``out``; returns each split's (predicted
+    reaction energies, their σ) of its test members (kcal/mol)."""
     n = x.size
     z = float(special.ndtri(0.5 + level / 2))
     for name in ("energy", "energy_std", "ad_distance"):
@@ -338,17 +432,25 @@ def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, l
     # optimum (a warm start, as for the curve): a bounded cost, and no split sees another's members.
     warm_e = warm_d = None
     if learner != "ridge":
-        warm_e = _family_fit(X, x, learner, random_state, designs)
-        warm_d = _family_fit(X, y, learner, random_state, designs) if "direct" in routes else None
+        warm_e = _family_fit(X, x, learner, random_state, designs, anchor, fixed)
+        warm_d = _family_fit(X, y, learner, random_state, designs, anchor, fixed) if "direct" in routes else None
+    a = dict(anchor=anchor, fixed=fixed)
     energy_fits = _fold_fits(X, x, splits, learner, random_state=random_state, oof="hybrid" in routes, designs=designs,
-                             warm=warm_e)
-    direct_fits = (_fold_fits(X, y, splits, learner, random_state=random_state, designs=designs, warm=warm_d)
+                             warm=warm_e, **a)
+    direct_fits = (_fold_fits(X, y, splits, learner, random_state=random_state, designs=designs, warm=warm_d, **a)
                    if "direct" in routes else None)
+    if anchor is not None:
+        out.energy_free = np.full(n, np.nan)
     e_split = []   # each split's own energies: test sets may overlap (nested jackknife+)
     for k, s in enumerate(splits):
         f = energy_fits[k]
         span = (x[s.train].min(), x[s.train].max())
         e_hat, clipped = clip_energy(f["pred"], *span)
+        through = f.get("anchored")
+        if through is not None and through.any():     # the anchor follows the computed energy beyond the span
+            e_hat, clipped = np.where(through, f["pred"], e_hat), clipped & ~through
+        if "free_pred" in f:
+            out.energy_free[s.test] = clip_energy(f["free_pred"], *span)[0]
         e_split.append(e_hat)
         out.energy[s.test], out.energy_std[s.test] = e_hat, f["sd"]
         out.energy_pred_outside[s.test] = (f["pred"] < span[0]) | (f["pred"] > span[1])
@@ -380,3 +482,4 @@ def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, l
             base = curves.predict(k, e_split[k], energy_fits[k]["sd"], level)[0]
             h, cs = base + corrections[k]["pred"], corrections[k]["sd"]
             out._put("hybrid", s.test, (h, cs, h - z * cs, h + z * cs))
+    return [(e_split[k], energy_fits[k]["sd"]) for k in range(len(splits))]

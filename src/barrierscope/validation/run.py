@@ -46,6 +46,10 @@ class ValidationOptions:
     regimes: tuple[str, ...] = REGIMES
     #: the practical margin's floor, kcal/mol (:func:`.metrics.practical_margin`)
     margin: float = MARGIN_KCAL
+    #: X's column holding a computed reaction energy the energy stage and the black box are
+    #: anchored on (None: not anchored), and further unpenalised columns (family indicators)
+    anchor: str | None = None
+    fixed: tuple[str, ...] = ()
 
 
 def standardised(X) -> np.ndarray | None:
@@ -59,13 +63,31 @@ def standardised(X) -> np.ndarray | None:
 def _regime_record(oof, energy, barrier, ids, *, random_state, scheme: str, margin: float) -> RegimeRecord:
     routes = {r: metrics(barrier, oof.pred[r], oof.low[r], oof.high[r]) for r in ROUTES if r in oof.pred}
     decision = decide({r: oof.pred[r] - barrier for r in oof.pred}, ids, random_state, margin)
+    pairs = dict(decision["pairs"])
+    structure = _computed_energy_pair(oof, barrier, random_state, margin)
+    if structure is not None:
+        pairs["structure_curve_on_true_energy_vs_curve_on_true_energy"] = structure
     return RegimeRecord(n_test=int(oof.tested.sum()), scheme=scheme, routes=routes, winner=decision["winner"],
                         tied=decision["tied"], leader_beats=decision["leader_beats"],
                         equivalent=decision["equivalent"], margin=margin,
-                        beats_mean=decision["beats_mean"], misses=decision["misses"], pairs=decision["pairs"],
+                        beats_mean=decision["beats_mean"], misses=decision["misses"], pairs=pairs,
                         energy_stage=None if oof.energy is None else metrics(energy, oof.energy),
+                        energy_stage_free=None if oof.energy_free is None else metrics(energy, oof.energy_free),
                         learners={t: dict(Counter(names)) for t, names in oof.learners.items()},
                         curve_beats_mean=_curve_beats_mean(oof, barrier, random_state, margin))
+
+
+def _computed_energy_pair(oof, barrier, random_state, margin: float):
+    """The structure-dependent curve against the plain one, both fed the members' own
+    reaction energies: does where the reaction happens add to how far downhill it goes?"""
+    a, b = "structure_curve_on_true_energy", "curve_on_true_energy"
+    if a not in oof.pred or b not in oof.pred:
+        return None
+    ok = np.isfinite(oof.pred[a]) & np.isfinite(oof.pred[b])
+    if ok.sum() < 3:
+        return None
+    ea, eb = oof.pred[a][ok] - barrier[ok], oof.pred[b][ok] - barrier[ok]
+    return judge(paired_comparison(ea, eb, random_state=random_state), np.mean(np.abs(ea)), np.mean(np.abs(eb)), margin)
 
 
 def _curve_beats_mean(oof, barrier, random_state, margin: float) -> bool | None:
@@ -109,7 +131,8 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
     barrier = np.asarray(barrier, dtype=float)
     has_x = X is not None and np.shape(X)[1] > 0
     plan = regimes(energy, standardised(X) if has_x else None, opts.random_state, opts.regimes)
-    kw = dict(learner=opts.learner, relation=opts.relation, level=opts.level, random_state=opts.random_state)
+    kw = dict(learner=opts.learner, relation=opts.relation, level=opts.level, random_state=opts.random_state,
+              anchor=opts.anchor if has_x else None, fixed=opts.fixed)
     regimes_out: dict[str, RegimeRecord] = {}
     notes: list[str] = []
     loo = None
@@ -144,13 +167,14 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
                      f"iteration limit in {capped} of {fits} validation refits; those fits stand")
     return ValidationRecord(
         validation=regimes_out,
-        routes={r: top.routes.get(r) for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy",
-                                               "family_mean")},
+        routes={r: top.routes.get(r) for r in ROUTES},
         energy_stage=top.energy_stage,
-        comparison={k: top.pairs[k] for k in ("two_stage_vs_direct", "hybrid_vs_direct") if k in top.pairs},
+        comparison={k: top.pairs[k] for k in ("two_stage_vs_direct", "hybrid_vs_direct", "structure_curve_vs_direct")
+                    if k in top.pairs},
         winner=top.winner, members=_members(loo, energy, barrier, ids),
         relations_chosen_in_folds=({k: loo.relations.count(k) for k in sorted(set(loo.relations))}
                                    if opts.relation == "auto" else None),
         y_randomization=(y_randomization(X, energy, barrier, opts.learner, relation=opts.relation, n_shuffles=shuffles,
-                                         random_state=opts.random_state, designs=designs) if has_x and shuffles else None),
+                                         random_state=opts.random_state, designs=designs, anchor=kw["anchor"],
+                                         fixed=opts.fixed) if has_x and shuffles else None),
         notes=notes)

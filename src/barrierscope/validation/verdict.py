@@ -16,8 +16,9 @@ import numpy as np
 
 from .metrics import MARGIN_KCAL, bootstrap_indices, judge, largest_misses, paired_comparison
 
-PHYSICS_ROUTES = ("two_stage", "hybrid")
-CANDIDATES = ("two_stage", "hybrid", "direct", "family_mean")
+PHYSICS_ROUTES = ("two_stage", "hybrid", "structure_curve")
+DESCRIPTOR_CANDIDATES = ("two_stage", "hybrid", "structure_curve", "direct")
+CANDIDATES = DESCRIPTOR_CANDIDATES + ("family_mean",)
 CURVE_ONLY_CANDIDATES = ("curve_on_true_energy", "family_mean")
 
 
@@ -64,16 +65,17 @@ def primary_route(loo_decision, loo_routes: dict) -> str:
     routes; on a tie (or when only the family mean wins) the descriptor route with the lowest
     leave-one-out MAE — chosen by the numbers, whichever kind of route it is."""
     winner = loo_decision.winner
-    if winner in ("two_stage", "hybrid", "direct"):
+    if winner in DESCRIPTOR_CANDIDATES:
         return winner
-    routes = [r for r in ("two_stage", "hybrid", "direct") if loo_routes.get(r)]
+    routes = [r for r in DESCRIPTOR_CANDIDATES if loo_routes.get(r)]
     if not routes:
         return "two_stage"
     return min(routes, key=lambda r: loo_routes[r].mae)
 
 
 LEARNER_WORDS = {"ridge": "ridge regression", "pls": "partial least squares", "gp": "Gaussian process",
-                 "forest": "random forest"}
+                 "forest": "random forest", "anchor": "anchored on the computed energy",
+                 "anchor+correction": "anchored on the computed energy, with a correction"}
 #: Where each regime's held-out members lie, as the recommendation names them.
 WHERE = {"loo": "members like those computed", "downhill": "members more exergonic than those computed",
          "uphill": "members more endergonic than those computed", "clusters": "new kinds of substituent"}
@@ -84,7 +86,10 @@ def route_words(route: str, black_box: str | None = None) -> str:
     if route == "direct":
         return f"the black box ({LEARNER_WORDS.get(black_box, black_box)})" if black_box else "the black box"
     return {"two_stage": "the two-stage route", "hybrid": "the hybrid route", "family_mean": "the family mean",
-            "curve_on_true_energy": "the curve fed computed reaction energies"}.get(route, route)
+            "curve_on_true_energy": "the curve fed computed reaction energies",
+            "structure_curve": "the structure-dependent curve route",
+            "structure_curve_on_true_energy": "the structure-dependent curve fed computed reaction energies",
+            }.get(route, route)
 
 
 def regime_choice(regime) -> tuple[str, list[str]]:

@@ -28,7 +28,7 @@ def constant_predictor_loo_mae(y) -> float:
 
 
 def y_randomization(X, energy, barrier, learner: str, *, relation: str, n_shuffles: int = 5,
-                    random_state: int = 0, designs: dict | None = None) -> YRandomization:
+                    random_state: int = 0, designs: dict | None = None, anchor=None, fixed=()) -> YRandomization:
     """Leave-one-out MAE of the two-stage and direct routes refitted on shuffled pairs."""
     rng = np.random.default_rng(random_state)
     energy = np.asarray(energy, dtype=float)
@@ -39,7 +39,7 @@ def y_randomization(X, energy, barrier, learner: str, *, relation: str, n_shuffl
         perm = rng.permutation(energy.size)
         res = out_of_fold(X, energy[perm], barrier[perm], splits, learner=learner, relation=relation,
                           random_state=random_state, routes=("two_stage", "direct"), domain=False,
-                          designs=designs)
+                          designs=designs, anchor=anchor, fixed=fixed)
         for r in maes:
             if r in res.pred:
                 maes[r].append(float(np.mean(np.abs(res.pred[r] - barrier[perm]))))

@@ -57,6 +57,9 @@ def _sig(values: np.ndarray, digits: int = 4) -> np.ndarray:
     idx = np.flatnonzero(ok)
     for d in np.unique(decimals):
         at = idx[decimals == d]
+        if abs(int(d)) > 22:        # beyond the exact powers of ten (and 10³⁰⁹ overflows): by text
+            out[at] = [float(f"{x:.{digits - 1}e}") for x in v[at]]
+            continue
         p = 10.0 ** abs(int(d))
         out[at] = np.round(v[at] * p) / p if d >= 0 else np.round(v[at] / p) * p
     return out

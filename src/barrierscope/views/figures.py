@@ -19,9 +19,11 @@ from .units import to_unit
 OKABE_ITO = ("#0072B2", "#E69F00", "#009E73", "#CC79A7", "#D55E00", "#56B4E9", "#F0E442", "#000000")
 LINESTYLES = ("-", "--", ":", "-.", (0, (5, 1, 1, 1)), (0, (3, 1, 1, 1, 1, 1)), (0, (1, 1)))
 ROUTE_STYLE = {"two_stage": (OKABE_ITO[0], "o"), "hybrid": (OKABE_ITO[2], "s"), "direct": (OKABE_ITO[4], "^"),
-               "curve_on_true_energy": (OKABE_ITO[3], "D"), "family_mean": (OKABE_ITO[7], "x")}
+               "structure_curve": (OKABE_ITO[1], "v"), "curve_on_true_energy": (OKABE_ITO[3], "D"),
+               "family_mean": (OKABE_ITO[7], "x")}
 ROUTE_LABEL = {"two_stage": "two-stage route", "hybrid": "hybrid route", "direct": "black box",
-               "curve_on_true_energy": "curve on computed energies", "family_mean": "family mean"}
+               "structure_curve": "structure curve route", "curve_on_true_energy": "curve on computed energies",
+               "family_mean": "family mean"}
 
 
 def relation_style(name: str) -> tuple[str, object]:

@@ -9,8 +9,9 @@ from .cautions import CAUTION
 from .labels import energy_labels
 from .verdict import SHORT, verdict_lines, verdict_text
 
-ROUTE_LABELS = {"two_stage": "two-stage route", "hybrid": "hybrid route", "direct": "black box",
-                "curve_on_true_energy": "curve on computed energies", "family_mean": "family mean"}
+ROUTE_LABELS = {"two_stage": "two-stage route", "hybrid": "hybrid route", "structure_curve": "structure curve route",
+                "direct": "black box", "curve_on_true_energy": "curve on computed energies",
+                "structure_curve_on_true_energy": "structure curve, computed", "family_mean": "family mean"}
 REGIME_LABELS = {"loo": "leave-one-out", "downhill": "downhill", "uphill": "uphill", "clusters": "clusters"}
 
 
@@ -32,11 +33,14 @@ def regime_table(record: dict) -> list[str]:
                                  for k, v in regimes.items())
     sub = f"{'':<28}" + "".join(f"{'MAE':>7}{'RMSE':>7}{'cover':>6}" for _ in regimes)
     lines = [head, sub, "-" * len(sub)]
-    rows = [("energy_stage", f"energy stage ({energy_labels(record.get('energy_kind'))[0]})")] + list(ROUTE_LABELS.items())
-    for key, label in rows:
+    reaction = energy_labels(record.get('energy_kind'))[0]
+    rows = [("energy_stage", f"energy stage ({reaction})")]
+    if record.get("anchor"):
+        rows = [("energy_stage", "energy stage, anchored"), ("energy_stage_free", "energy stage, free")]
+    for key, label in rows + list(ROUTE_LABELS.items()):
         cells = []
         for v in regimes.values():
-            m = v.get("energy_stage") if key == "energy_stage" else v.get("routes", {}).get(key)
+            m = v.get(key) if key.startswith("energy_stage") else v.get("routes", {}).get(key)
             cells.append(f"{_cell(m, 'mae'):>7}{_cell(m, 'rmse'):>7}{_cell(m, 'pi90_coverage', '.0%'):>6}")
         if any(c.strip("— ") for c in cells):
             lines.append(f"{label:<28}" + "".join(cells))
@@ -90,11 +94,34 @@ def member_flag_lines(record: dict, shown: int = 6) -> list[str]:
     return lines
 
 
+CHOICE_WORDS = {"anchor": "the anchor alone", "anchor+correction": "the anchor with a ridge correction",
+                "free": "the free learner (the anchor did not pay)"}
+
+
+def anchor_lines(record: dict) -> list[str]:
+    """The energy stage's calibration on the computed energy, and what the inner score chose."""
+    a = record.get("anchor")
+    if not a:
+        return []
+    unit = record["units"]
+    reaction = energy_labels(record.get("energy_kind"))[0]
+    scores = ", ".join(f"{k} {v['score_rmse']:.3g}" for k, v in a["scores"].items())
+    return [f"energy stage anchored on {a['column']} ({a['source']}): {reaction} = {a['a']:.3g} "
+            f"[{a['a_ci95'][0]:.3g}, {a['a_ci95'][1]:.3g}] + {a['b']:.3g} [{a['b_ci95'][0]:.3g}, {a['b_ci95'][1]:.3g}]"
+            f" × {a['column']} (95 % intervals), residual SD {a['residual_sd']:.3g} {unit}, {a['n']} members" +
+            ("; each family its own intercept" if a.get("per_family_intercepts") else ""),
+            f"  it predicts with {CHOICE_WORDS.get(a['choice'], a['choice'])} (inner score, RMSE over leave-one-out "
+            f"and both end splits: {scores} {unit}); the black box, anchored alike, with "
+            f"{CHOICE_WORDS.get(a['black_box_choice'], a['black_box_choice'])}"]
+
+
 def _learner_words(record: dict) -> str:
     """The learner as the header says it: ``auto`` with what it chose for each model."""
     chosen = record.get("learners_chosen") or {}
     if not record.get("features"):
         return "no descriptors (curve only)"
+    if record.get("anchor"):
+        return f"learner {record['learner']}, anchored on {record['anchor']['column']}"
     if record["learner"] == "auto" and chosen:
         return ("learner auto (energy stage " + str(chosen.get("energy_stage")) + ", black box " +
                 str(chosen.get("direct")) + ")")
@@ -110,6 +137,7 @@ def format_fit(record: dict, tiers=()) -> str:
                                         if record["requested_relation"] != record["relation"] else ""), ""]
     lines += regime_table(record)
     lines.append("cover: share of held-out members inside their own 90 % prediction interval")
+    lines += anchor_lines(record)
     iv = record.get("intervals", {})
     if iv.get("method", "model") != "model":
         lines.append(f"jackknife+ rows: intervals built from each split's training members alone (median width in "
@@ -128,7 +156,8 @@ def format_fit(record: dict, tiers=()) -> str:
     lines = lines[:1] + ["", "recommendation: " + verdict[0], ""] + lines[1:] if record.get("recommendation") else lines
     rest = verdict[1:] if record.get("recommendation") else verdict
     lines += ["", "verdict:"] + [f"  {v}" for v in rest]
-    lines.append("members with a computed reaction energy go straight to the curve")
+    lines.append("members with a computed reaction energy go straight to the " +
+                 ("structure-dependent curve" if record.get("primary_route") == "structure_curve" else "curve"))
     c = record["curve"]
     if record.get("families"):
         from .families_text import family_rows, validation_rows
@@ -142,9 +171,18 @@ def format_fit(record: dict, tiers=()) -> str:
         lines.append("curve: " + ", ".join(f"{k} = {v:.4g}" for k, v in c["params"].items()))
     lines += member_flag_lines(record)
     lines += [f"warning: {w}" for w in record.get("warnings", [])]
+    lines += skipped_lines(record.get("skipped") or [])
     lines += [f"note: {n}" for n in record.get("notes", [])]
     lines += ["", CAUTION]
     return "\n".join(lines)
+
+
+def skipped_lines(skipped: list, shown: int = 20) -> list[str]:
+    """The rows --skip-bad-rows left out: row, id and reason (all of them in --json)."""
+    lines = [f"skipped: row {s['row']} ({s['id']}): {s['problem']}" for s in skipped[:shown]]
+    if len(skipped) > shown:
+        lines.append(f"skipped: ... and {len(skipped) - shown} more (fit --json lists every one under 'skipped')")
+    return lines
 
 
 def fit_json(record, tiers=()) -> dict:

@@ -16,7 +16,8 @@ import pandas as pd
 
 from .units import in_unit, unit_slug
 
-ROUTE_ORDER = ("two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean")
+ROUTE_ORDER = ("two_stage", "hybrid", "direct", "structure_curve", "curve_on_true_energy", "structure_curve_on_true_energy",
+               "family_mean")
 
 
 def members_frame(record, unit: str, rounded: bool = True) -> pd.DataFrame:

@@ -2,7 +2,8 @@
 
 Sections (each where it applies): the verdict; validation in every regime; the members
 behind large or unusual errors; the curve with every relation, its parameters and the
-identifiability verdict; Leffler α; the Hammett plot (table σ); leave-one-out parity and residuals; what drives the
+identifiability verdict; the structure curve (what moves the intrinsic barrier); Leffler α;
+the Hammett plot (table σ); leave-one-out parity and residuals; what drives the
 reaction energy; the applicability domain; a screened library; next calculations; warnings
 and notes; methods and sources. Every energy is shown in the model's unit.
 """
@@ -23,6 +24,7 @@ from .fit_text import ROUTE_LABELS, regime_label, winner_words
 from .html import STYLE, esc, figure, num, table
 from .labels import energy_labels
 from .report_extra import families_section, hammett_section
+from .structure_view import structure_section
 from .units import in_unit, to_unit
 from .verdict import verdict_lines
 
@@ -40,11 +42,13 @@ def _validation(rec: dict, unit: str) -> str:
     head = ["route"] + [f"{regime_label(k, v)}{' (' + str(v['n_test']) + ')' if v['n_test'] else ''}<br>MAE · RMSE · "
                         f"cover" for k, v in regimes.items()]
     rows = []
-    for key, label in [("energy_stage", f"energy stage ({energy_labels(rec.get('energy_kind'))[0]})"),
-                       *ROUTE_LABELS.items()]:
+    stage = [("energy_stage", f"energy stage ({energy_labels(rec.get('energy_kind'))[0]})")]
+    if rec.get("anchor"):
+        stage = [("energy_stage", "energy stage, anchored"), ("energy_stage_free", "energy stage, free learner")]
+    for key, label in [*stage, *ROUTE_LABELS.items()]:
         cells = []
         for v in regimes.values():
-            m = v.get("energy_stage") if key == "energy_stage" else v.get("routes", {}).get(key)
+            m = v.get(key) if key.startswith("energy_stage") else v.get("routes", {}).get(key)
             cells.append("—" if not m else f"{num(m['mae'])} · {num(m['rmse'])} · "
                                            f"{'—' if 'pi90_coverage' not in m else format(m['pi90_coverage'], '.0%')}")
         if any(c != "—" for c in cells):
@@ -57,12 +61,38 @@ def _validation(rec: dict, unit: str) -> str:
             "and predict it from the rest; <i>clusters</i> holds out whole clusters of similar members. "
             f"Energies in {esc(unit)}; cover: the share of held-out members inside their own 90 % interval.</p>")
     text += table(head, rows)
+    text += _anchor(rec, unit)
     y = rec.get("y_randomization")
     if y:
         text += (f"<p>y-randomisation ({y['n_shuffles']} shuffles of the barriers, every route refitted): two-stage "
                  f"LOO MAE {num(y['mae_mean'])} ± {num(y['mae_std'], 2)} {esc(unit)}, black box "
                  f"{num(y['direct_mae_mean'])}.</p>")
     return text
+
+
+def _anchor(rec: dict, unit: str) -> str:
+    """The energy stage's calibration on the computed energy, and the candidates' inner scores."""
+    from .fit_text import CHOICE_WORDS
+
+    a = rec.get("anchor")
+    if not a:
+        return ""
+    reaction = energy_labels(rec.get("energy_kind"))[0]
+    rows = [["a (intercept)", f"{num(a['a'], 4)} {esc(unit)}", f"{num(a['a_ci95'][0], 4)} to {num(a['a_ci95'][1], 4)}"],
+            ["b (slope)", num(a["b"], 4), f"{num(a['b_ci95'][0], 4)} to {num(a['b_ci95'][1], 4)}"],
+            ["residual SD", f"{num(a['residual_sd'])} {esc(unit)}", ""], ["members", str(a["n"]), ""]]
+    scores = [[esc(k), num(v["score_rmse"]), num(v["loo_rmse"]),
+               " · ".join(num(e) for e in v["end_rmse"]) or "—"] for k, v in a["scores"].items()]
+    return (f"<h3>The energy stage's anchor</h3><p>{esc(reaction)} = a + b × <code>{esc(a['column'])}</code> "
+            f"({esc(a['source'])}), a and b unpenalised; a ridge correction from the descriptors may follow "
+            f"(Δ-learning). A slope below 1 means the computed method compresses the reaction energies. "
+            f"{'Each family has its own intercept under the shared slope. ' if a.get('per_family_intercepts') else ''}"
+            f"The energy stage predicts with {esc(CHOICE_WORDS.get(a['choice'], a['choice']))}; the black box, "
+            f"anchored alike, with {esc(CHOICE_WORDS.get(a['black_box_choice'], a['black_box_choice']))}. Chosen by "
+            f"the inner score: the RMSE over leave-one-out and two end splits (the lowest and the highest quarter of "
+            f"computed energies held out), in {esc(unit)}.</p>" +
+            table(["calibration", "value", "95 % interval"], rows) +
+            table(["candidate", "inner score", "leave-one-out RMSE", "end splits RMSE (low · high)"], scores))
 
 
 def _members(rec: dict, unit: str, model=None) -> str:
@@ -171,6 +201,7 @@ def build_report(model, record, comparison, source: str = "", *, screen=None, pi
              f"<div class='caution'>{esc(CAUTION)}</div>",
              _verdict(rec, unit, model.tiers),
              _validation(rec, unit), _members(rec, unit, model), _curve(model, rec, comparison, unit, picks=pick_list, figures_dir=figures_dir),
+             structure_section(model, unit, figures_dir),
              hammett_section(record.hammett, model.training["barrier"], unit, figures_dir),
              families_section(record, model, unit, figures_dir),
              _diagnostics(model, rec, unit, screen, figures_dir=figures_dir), *extra_sections]

@@ -34,8 +34,14 @@ def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) 
                      f"({s['floor']:.3g} {unit}): ranked by their barrier, but the model cannot tell them from the "
                      f"floor (column reaches_floor)")
     if s.get("implausible_half_lives"):
+        t = s.get("temperature")
+        if t is not None and not 150.0 <= t <= 1000.0:
+            what = (f"check --temperature first: {t:g} K is far from where reactions are run (for degrees Celsius "
+                    f"write, e.g., 25C), then the units of the model's data")
+        else:
+            what = "check the units of the model's data (and of --energy) before reading them"
         lines.append(f"{s['implausible_half_lives']} half-lives lie below a picosecond or above the age of the "
-                     f"universe: check the units of the model's data (and of --energy) before reading them")
+                     f"universe: {what}")
     if bands_line(s):
         lines.append(bands_line(s))
     if s.get("top"):

@@ -8,11 +8,12 @@ are signed predicted − computed, said once where they appear.
 from __future__ import annotations
 
 from ..validation.splits import LOO_MAX
-from ..validation.verdict import LEARNER_WORDS, regime_choice, route_words
+from ..validation.verdict import DESCRIPTOR_CANDIDATES, LEARNER_WORDS, regime_choice, route_words
 from .labels import energy_labels
 
 SHORT = {"two_stage": "two-stage", "hybrid": "hybrid", "direct": "black box", "family_mean": "family mean",
-         "curve_on_true_energy": "curve on computed energies"}
+         "curve_on_true_energy": "curve on computed energies", "structure_curve": "structure curve",
+         "structure_curve_on_true_energy": "structure curve on computed energies"}
 REGIME_NAMES = {"loo": "Leave-one-out (interpolation)",
                 "downhill": "Downhill (the most exergonic quarter held out)",
                 "uphill": "Uphill (the most endergonic quarter held out)",
@@ -32,7 +33,8 @@ def _black_box(record: dict) -> str | None:
 
 def _numbers(regime: dict, unit: str) -> str:
     routes = regime["routes"]
-    shown = [r for r in ("two_stage", "hybrid", "direct", "curve_on_true_energy", "family_mean") if routes.get(r)]
+    shown = [r for r in ("two_stage", "hybrid", "structure_curve", "direct", "curve_on_true_energy",
+                        "structure_curve_on_true_energy", "family_mean") if routes.get(r)]
     maes = ", ".join(f"{SHORT[r]} {_g(routes[r]['mae'])}" for r in shown)
     return f"MAE {maes} {unit}; {regime['n_test']} held out"
 
@@ -83,7 +85,7 @@ def regime_sentence(name: str, regime: dict, unit: str, black_box: str | None = 
     elif kind == "only":
         head = f"{names[0]} alone beats the family mean, without beating the other routes by the margin"
     elif kind == "equivalent":
-        head = f"{' and '.join(names)} equivalent within the margin"
+        head = f"{', '.join(names[:-1])} and {names[-1]} equivalent within the margin"
     else:
         head = f"{', '.join(names[:-1])} and {names[-1]} cannot be told apart on these members"
     tail = ""
@@ -104,7 +106,10 @@ def weak_link(record: dict, unit: str, tiers=()) -> str:
             f"{reaction} the curve reaches MAE {_g(cte['mae'])}")
     if cte["mae"] >= 0.85 * ts["mae"]:
         return text + "."
-    if "xtb" in tiers:
+    if record.get("anchor"):
+        advice = (f"computing reaction energies at the reference level for the members you screen (screen --energy) "
+                  f"pays more than the anchor on {record['anchor']['column']}")
+    elif "xtb" in tiers:
         advice = ("computing reaction energies for the members you screen (screen --energy) pays more than any "
                   "descriptor (the xtb tier is already in use)")
     else:
@@ -123,6 +128,24 @@ def energy_link_sentence(record: dict, unit: str) -> str:
             f"the curve does no better than the family mean (MAE {_g(c['mae'])} against {_g(m['mae'])} {unit}). "
             f"The physics-constrained routes have nothing to stand on here; a descriptor route that does well does so "
             f"without the curve.")
+
+
+def structure_sentence(record: dict, unit: str) -> str:
+    """Fed computed reaction energies, does the structure-dependent curve beat the plain one
+    in leave-one-out (where the reaction happens, on top of how far downhill it goes)?"""
+    loo = record.get("validation", {}).get("loo", {})
+    c = loo.get("pairs", {}).get("structure_curve_on_true_energy_vs_curve_on_true_energy")
+    s, p = loo.get("routes", {}).get("structure_curve_on_true_energy"), loo.get("routes", {}).get("curve_on_true_energy")
+    if not c or not s or not p:
+        return ""
+    if c.get("beats"):
+        verdict = "beats it: where the reaction happens moves the intrinsic barrier"
+    elif c.get("equivalent"):
+        verdict = "is equivalent to it within the margin: the descriptors do not move the intrinsic barrier here"
+    else:
+        verdict = "cannot be told from it on these members"
+    return (f"Fed computed reaction energies, the structure-dependent curve reaches leave-one-out MAE {_g(s['mae'])} "
+            f"against {_g(p['mae'])} {unit} for the plain curve, and {verdict}.")
 
 
 def black_box_sentence(record: dict, unit: str) -> str:
@@ -151,7 +174,7 @@ def chance_sentence(record: dict, unit: str) -> str:
     y = record.get("y_randomization")
     if not y:
         return ""
-    best = min((m["mae"] for r, m in record["routes"].items() if m and r in ("two_stage", "hybrid", "direct")),
+    best = min((m["mae"] for r, m in record["routes"].items() if m and r in DESCRIPTOR_CANDIDATES),
                default=None)
     if best is not None and y["mae_mean"] <= 1.1 * best:
         return (f"Refitted on shuffled targets the two-stage route reaches MAE {_g(y['mae_mean'])} {unit}, as good "
@@ -171,11 +194,11 @@ def verdict_lines(record: dict, unit: str, tiers=()) -> list[str]:
         return [x for x in lines if x]
     lines += [regime_sentence(k, v, unit, bb) for k, v in regimes.items()]
     decided = {k: v["winner"] for k, v in regimes.items()
-               if not v.get("skipped") and v["winner"] in ("two_stage", "hybrid", "direct")}
+               if not v.get("skipped") and v["winner"] in DESCRIPTOR_CANDIDATES}
     if len(set(decided.values())) > 1:
         lines.append("The regimes disagree (" + ", ".join(f"{k}: {SHORT[w]}" for k, w in decided.items()) +
                      "): choose the route by where the members you will predict lie.")
-    lines += [black_box_sentence(record, unit), chance_sentence(record, unit)]
+    lines += [structure_sentence(record, unit), black_box_sentence(record, unit), chance_sentence(record, unit)]
     if regimes.get("loo", {}).get("curve_beats_mean") is not False:   # no weak link when there is no chain
         lines.append(weak_link(record, unit, tiers))
     return [x for x in lines if x]
