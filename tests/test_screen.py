@@ -195,3 +195,39 @@ def _numbered(df):
     out = df.copy()
     out[ROW] = np.arange(1, len(out) + 1)
     return out
+
+
+def test_the_output_keeps_the_library_s_columns_and_describes_itself(model_path, library, tmp_path):
+    import hashlib
+    import json
+
+    import pyarrow.parquet as pq
+    from typer.testing import CliRunner
+
+    from barrierscope import __version__
+    from barrierscope.cli import app
+
+    df = pd.read_csv(library).head(40)
+    df["supplier_id"] = [f"S{i:04d}" for i in range(len(df))]
+    df["status"] = "in stock"                       # a name barrierscope uses itself
+    lib = tmp_path / "lib_cols.csv"
+    df.to_csv(lib, index=False)
+    out = tmp_path / "o.csv"
+    run_screen(model_path, lib, out, ScreenOptions(cache_dir=None, temperature=310.0), progress=False)
+    res = pd.read_csv(out, keep_default_na=False).sort_values("row")
+    cols = list(res.columns)
+    assert cols.index("supplier_id") > cols.index("notes") and cols[-1] == "library_status"
+    assert list(res["supplier_id"]) == list(df["supplier_id"]) and set(res["library_status"]) == {"in stock"}
+    meta = json.loads((tmp_path / "o.csv.meta.json").read_text())
+    assert meta["temperature_K"] == 310.0 and meta["units"] == "kcal/mol" and meta["energy_kind"] == "free-energy"
+    assert meta["model_sha256"] == hashlib.sha256(model_path.read_bytes()).hexdigest()
+    assert meta["barrierscope_version"] == __version__ and meta["rows"] == 40 and meta["created"]
+    # Parquet: the same description in the file's own metadata; --keep chooses the columns.
+    pq_out = tmp_path / "o.parquet"
+    r = CliRunner().invoke(app, ["screen", str(model_path), str(lib), "-o", str(pq_out), "--keep", "supplier_id",
+                                 "--quiet", "--cache-dir", str(tmp_path / "c")])
+    assert r.exit_code == 0, r.output
+    table = pq.read_table(pq_out)
+    assert "supplier_id" in table.column_names and "library_status" not in table.column_names
+    assert json.loads(table.schema.metadata[b"barrierscope"])["model_sha256"] == meta["model_sha256"]
+    assert not (tmp_path / "o.parquet.meta.json").exists()

@@ -95,3 +95,25 @@ def test_rounding_survives_astronomical_half_lives():
 
     got = _sig(np.array([1.234567e305, 3.3e-320, 12.34567, np.inf]))
     assert got[0] == pytest.approx(1.235e305) and got[2] == 12.35 and np.isinf(got[3])
+
+
+def test_progress_only_for_a_person_at_a_terminal(monkeypatch, capsys):
+    import io
+
+    from barrierscope import progress
+
+    class Tty(io.StringIO):
+        def isatty(self):
+            return True
+
+    monkeypatch.delenv("BARRIERSCOPE_QUIET", raising=False)
+    tty = Tty()
+    monkeypatch.setattr("sys.stderr", tty)
+    progress.stage("validating: loo")
+    assert "validating: loo" in tty.getvalue()
+    monkeypatch.setenv("BARRIERSCOPE_QUIET", "1")
+    progress.stage("quiet now")
+    assert "quiet now" not in tty.getvalue()
+    monkeypatch.setattr("sys.stderr", io.StringIO())       # a pipe or a log: nothing
+    progress.stage("piped")
+    assert "piped" not in capsys.readouterr().err

@@ -65,3 +65,57 @@ def test_batch_is_not_one_candidate_repeated():
 def test_unknown_goal():
     with pytest.raises(ValueError, match="valid choices: parameters, predictions"):
         experiment(0, goal="everything")
+
+
+def _pool(seed=0, n=120):
+    rng = np.random.default_rng(seed)
+    e_train = rng.uniform(-9.0, -1.0, 10)
+    curve = CurveRegressor("asymptotic", intervals="none").fit(e_train, ASYM.barrier(e_train, TRUTH) +
+                                                               rng.normal(0, 0.5, 10))
+    e = rng.uniform(-30.0, 20.0, n)
+    inside = np.abs(e + 5.0) < 8.0           # invented: candidates near the members are "in domain"
+    return curve, Candidates(ids=list(range(n)), energy=e, energy_sd=np.zeros(n), Z=None, in_domain=inside,
+                             ad_distance=np.full(n, np.nan), given=np.ones(n, bool))
+
+
+@pytest.mark.parametrize("goal", ["parameters", "predictions"])
+def test_scores_are_each_pick_s_gain_on_one_scale_and_fall(goal):
+    # Greedy gains of a diminishing-returns objective fall pick by pick when they are measured on
+    # one scale (for predictions: the pool's variance before any pick, not after each).
+    curve, cands = _pool(1)
+    picks = pick(curve, cands, 6, goal)
+    scores = [p["score"] for p in picks]
+    assert all(a >= b - 1e-9 for a, b in zip(scores, scores[1:])), scores
+    assert all(p["best"] for p in picks)
+
+
+def test_domain_rules():
+    from barrierscope.estimators.design import CLEARLY_MORE
+
+    curve, cands = _pool(2)
+    anywhere = pick(curve, cands, 5, "parameters", domain="any")
+    assert any(not cands.in_domain[p["index"]] for p in anywhere)      # the pool's far ends gain most
+    only = pick(curve, cands, 5, "parameters", domain="only")
+    assert all(cands.in_domain[p["index"]] for p in only)
+    prefer = pick(curve, cands, 5, "parameters", domain="prefer")
+    for p in prefer:
+        if not cands.in_domain[p["index"]]:
+            assert p["domain"].startswith("out of domain") and float(p["domain"].split(": ")[1].split("×")[0]) >= \
+                CLEARLY_MORE
+        elif p["domain"]:
+            assert p["domain"].startswith("preferred in domain")
+    with pytest.raises(ValueError, match="valid choices: prefer, only, any"):
+        pick(curve, cands, 2, "parameters", domain="nowhere")
+
+
+def test_reason_words_follow_the_numbers():
+    from barrierscope.views.suggest_text import reason
+
+    base = {"energy": 1.0, "energy_given": True, "energy_sd": 0.0, "ad_distance": float("nan"), "in_domain": True,
+            "score": 0.1, "rank": 2}
+    facts = {"where": "gap", "gap": 0.12, "below": 0.0, "above": 0.0, "goal": "predictions", "floor_open": False,
+             "threshold": None, "sparse_gap": 0.8, "best": False, "domain": ""}
+    text = reason({**base, "facts": facts}, "kcal/mol")
+    assert "sparsely" not in text and "the most" not in text and "given the picks before it" in text
+    text = reason({**base, "rank": 1, "facts": {**facts, "gap": 2.0, "best": True}}, "kcal/mol")
+    assert "sparsely sampled" in text and "the most of any candidate left" in text

@@ -94,21 +94,33 @@ class Family:
 
     def screen(self, library, energy: str | None = None, energy_units: str | None = None,
                temperature="298.15K", *, transmission: float = 1.0, id_column: str | None = None,
-               cache_dir="default") -> pd.DataFrame:
+               cache_dir="default", molecularity: int | None = None, standard_state: str | None = None,
+               concentration=None, solvent: str | None = None, keep=None) -> pd.DataFrame:
         """The screen's table for ``library`` (a DataFrame or a path), full precision; the
-        same columns `screen` writes, without the rank."""
+        same columns `screen` writes, without the rank. A bimolecular step: ``molecularity=2``
+        (default: the model's), ``concentration`` of the partner ("0.1M", or mol/L),
+        ``solvent`` for the diffusion limit, ``standard_state`` of the barriers."""
         from .jobs.executors import cached_engine
         from .jobs.predict import ScreenOptions, predict_chunk
         from .units import normalize_unit, parse_temperature
+        from .jobs.predict import with_library
         from .views.columns import screen_frame
+
+        from .bimolecular import parse_concentration
+        from .jobs.predict import kinetics_of
 
         df, source = _as_table(library)
         kelvin, _ = parse_temperature(temperature)
         opts = ScreenOptions(temperature=kelvin, transmission=transmission, id_column=id_column, cache_dir=cache_dir,
                              energy_column=energy or (None if self.model.has_structures else self.model.energy_column),
-                             energy_units=normalize_unit(energy_units) if energy_units else None)
+                             energy_units=normalize_unit(energy_units) if energy_units else None,
+                             molecularity=molecularity, standard_state=standard_state, solvent=solvent,
+                             concentration=None if concentration is None else parse_concentration(concentration),
+                             keep=None if keep is None else tuple(keep))
         engine = cached_engine(self.model, cache_dir) if self.model.has_structures else None
-        return screen_frame(predict_chunk(self.model, df, source, opts, engine=engine).frame, self.units, rounded=False)
+        pred = predict_chunk(self.model, df, source, opts, engine=engine)
+        bimolecular = kinetics_of(self.model, opts)["molecularity"] == 2
+        return with_library(screen_frame(pred.frame, self.units, rounded=False, bimolecular=bimolecular), pred.library)
 
     def suggest(self, candidates, k: int = 5, goal: str = "parameters", energy: str | None = None,
                 *, cache_dir="default", **options) -> pd.DataFrame:

@@ -18,7 +18,7 @@ from typing import Optional
 
 import typer
 
-from .errors import BarrierscopeError
+from .errors import BarrierscopeError, InputError
 
 app = typer.Typer(add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
                   help="Barrier estimates for a reaction family, with honest error bars.")
@@ -91,6 +91,9 @@ def guarded(func):
     def wrapper(*args, **kwargs):
         import signal
 
+        from .progress import restart
+
+        restart()
         previous = _stop_signals()
         try:
             return func(*args, **kwargs)
@@ -115,6 +118,24 @@ def guarded(func):
                 signal.signal(sig, handler)
 
     return wrapper
+
+
+def kinetic_options(molecularity, standard_state, concentration, solvent) -> dict:
+    """The bimolecular options of screen and suggest, checked (each error names its option)."""
+    from .bimolecular import STANDARD_STATES, parse_concentration, solvent_viscosity
+    from .jobs.options import option
+
+    if molecularity is not None and molecularity not in (1, 2):
+        raise InputError(f"--molecularity {molecularity}: 1 (a unimolecular step) or 2 (A + B → TS)")
+    if standard_state is not None and standard_state.strip() not in STANDARD_STATES:
+        raise InputError(f"--standard-state {standard_state!r}: choose one of {', '.join(STANDARD_STATES)}")
+    with option("--concentration"):
+        c = None if concentration is None else parse_concentration(concentration)
+    if solvent is not None:
+        with option("--solvent"):
+            solvent_viscosity(solvent)
+    return {"molecularity": molecularity, "standard_state": None if standard_state is None else standard_state.strip(),
+            "concentration": c, "solvent": solvent}
 
 
 def warn(messages) -> None:
@@ -156,6 +177,9 @@ REPORT = typer.Option(None, "--report", help="Write a self-contained HTML report
 TEMPERATURE = typer.Option("298.15K", "--temperature", help="Temperature for rates and half-lives: 298.15K, 25C.")
 # `--units` is the one spelling; `--energy-units` is kept, hidden, for scripts written before.
 LIB_UNITS = typer.Option(None, "--units", help="Unit of --energy (default: the model's).")
+MOLECULARITY = typer.Option(1, "--molecularity", help="1: a unimolecular step; 2: A + B → TS (rates in M⁻¹ s⁻¹).")
+STANDARD_STATE = typer.Option("1M", "--standard-state", help="Standard state of the computed barriers: 1M or 1atm "
+                                                             "(gas-phase default of most codes; converted for rates).")
 FAMILY = typer.Option(None, "--family", help="Column naming each row's family: fit the families jointly.")
 SHARE = typer.Option(None, "--share", help="With --family: parameters shared by every family: width (default), "
                                            "none, or a comma list of floor, midpoint, width.")
@@ -251,6 +275,13 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
                  "stage and the black box are anchored on it (a + b·COL, unpenalised, plus a penalised correction "
                  "when it pays). Default: the xtb tier's reaction energy when computed; 'none' turns anchoring off."),
         id_column: Optional[str] = ID,
+        duplicates: str = typer.Option("refuse", "--duplicates",
+                                       help="Rows that repeat a structure with other numbers (conformers): refuse, "
+                                            "lowest (the lowest barrier), mean, or boltzmann (the Curtin–Hammett "
+                                            "effective barrier −RT ln Σ exp(−ΔG‡/RT) at --temperature)."),
+        temperature: str = typer.Option("298.15K", "--temperature",
+                                        help="Temperature of --duplicates boltzmann: 298.15K, 25C."),
+        molecularity: int = MOLECULARITY, standard_state: str = STANDARD_STATE,
         shuffles: int = typer.Option(5, "--shuffles", help="y-randomisation refits (0 to skip)."),
         margin: Optional[float] = typer.Option(None, "--margin", help="Smallest MAE difference (in --units) the "
                                                                      "verdict counts as a win; at least a tenth of the "
@@ -272,11 +303,17 @@ def fit(data: Path = typer.Argument(..., help="Table with one row per computed m
     from .jobs.fit import EngineOptions, FitOptions, fit_file
     from .views.fit_text import fit_json, format_fit
 
+    from .jobs.options import temperature as temperature_option
+
     extra = [c.strip() for c in extra_descriptors.split(",") if c.strip()] if extra_descriptors else []
+    kelvin, note = temperature_option(temperature)
+    warn([note] if note else [])
     opts = FitOptions(energy_column=energy, barrier_column=barrier, learner=learner, relation=relation, units=units,
                       energy_kind=kind, extra_descriptors=extra, id_column=id_column, skip_bad_rows=skip_bad_rows,
                       n_shuffles=shuffles, max_atoms=max_atoms, prediction_intervals=prediction_intervals,
-                      family_column=family, share=parse_share(share), margin=margin, computed_energy=computed_energy)
+                      family_column=family, share=parse_share(share), margin=margin, computed_energy=computed_energy,
+                      duplicates=duplicates.strip().lower(), temperature=kelvin, molecularity=molecularity,
+                      standard_state=standard_state.strip())
     structure = dict(substituents=substituents, molecule=molecule, core=core, reaction=reaction, template=template,
                      multiplicity=multiplicity, centre=centre)
     model, record = fit_file(data, output, structure, opts,
@@ -303,6 +340,22 @@ def screen(model: Path = typer.Argument(..., help="Model file written by `barrie
                                                                        "(used instead of predicting them)."),
            units: Optional[str] = LIB_UNITS, energy_units: Optional[str] = OLD_UNITS, id_column: Optional[str] = ID,
            top: int = typer.Option(0, "--top", help="Print the K lowest-barrier rows (in-domain rows first)."),
+           molecularity: Optional[int] = typer.Option(None, "--molecularity",
+                                                      help="1 or 2 (A + B → TS); default: the model's."),
+           standard_state: Optional[str] = typer.Option(None, "--standard-state",
+                                                        help="1M or 1atm, of the model's barriers; default: the "
+                                                             "model's."),
+           concentration: Optional[str] = typer.Option(None, "--concentration",
+                                                       help="The partner's concentration for a bimolecular step "
+                                                            "(0.1M, 100mM): pseudo-first-order rates and half-lives."),
+           solvent: Optional[str] = typer.Option(None, "--solvent",
+                                                 help="Solvent whose viscosity sets the diffusion limit of a "
+                                                      "bimolecular step (water, acetonitrile, toluene...); default: "
+                                                      "the model's xtb solvent."),
+           keep: Optional[str] = typer.Option(None, "--keep", metavar="COLS",
+                                              help="The library's columns to carry into the output after "
+                                                   "barrierscope's (comma-separated; 'none' for none). Default: "
+                                                   "every one."),
            workers: int = WORKERS, scheduler: Optional[str] = SCHEDULER,
            chunk_size: int = typer.Option(20000, "--chunk-size", help="Rows per chunk (a task on the cluster)."),
            cache_dir: Optional[Path] = CACHE, max_atoms: int = MAX_ATOMS, report: Optional[Path] = REPORT,
@@ -323,7 +376,10 @@ def screen(model: Path = typer.Argument(..., help="Model file written by `barrie
     opts = ScreenOptions(temperature=kelvin,
                          transmission=positive("--transmission", transmission), energy_column=energy,
                          energy_units=units, id_column=id_column,
-                         cache_dir=str(cache_dir) if cache_dir is not None else "default", max_atoms=max_atoms)
+                         cache_dir=str(cache_dir) if cache_dir is not None else "default", max_atoms=max_atoms,
+                         keep=None if keep is None else tuple(c.strip() for c in keep.split(",")
+                                                              if c.strip() and keep.strip().lower() != "none"),
+                         **kinetic_options(molecularity, standard_state, concentration, solvent))
     executor = make_executor(workers=workers, scheduler=scheduler)
     try:
         summary = run_screen(model, library, output, opts, executor=executor, chunk_size=chunk_size,
@@ -349,6 +405,9 @@ def suggest(model: Path = typer.Argument(..., help="Model file written by `barri
                                                                   "(sharpen the pool's predictions)."),
             energy: Optional[str] = typer.Option(None, "--energy", help="Candidate column of computed reaction "
                                                                         "energies."),
+            domain: str = typer.Option("prefer", "--domain",
+                                       help="prefer (in-domain candidates first, unless an out-of-domain one gains "
+                                            "1.5 times as much), only (in-domain candidates only) or any (gain alone)."),
             units: Optional[str] = LIB_UNITS, energy_units: Optional[str] = OLD_UNITS, id_column: Optional[str] = ID,
             cache_dir: Optional[Path] = CACHE,
             report: Optional[Path] = REPORT,
@@ -363,7 +422,8 @@ def suggest(model: Path = typer.Argument(..., help="Model file written by `barri
     units = library_unit(units, energy_units)
     fitted = load_model(model)
     result = suggest_file(model, candidates, k, goal, energy_column=energy, energy_units=units, id_column=id_column,
-                          cache_dir=str(cache_dir) if cache_dir is not None else "default", model=fitted)
+                          cache_dir=str(cache_dir) if cache_dir is not None else "default", model=fitted,
+                          domain=domain)
     if report is not None:
         write_report(fitted, path=report, source=str(candidates), picks=result)
     if as_json:

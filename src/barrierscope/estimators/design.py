@@ -65,17 +65,30 @@ def _energy_part(cands: Candidates, state: dict, alpha_pool: np.ndarray, A_inv: 
     return np.where(cands.given, 0.0, gain)
 
 
-def pick(curve, cands: Candidates, k: int, goal: str = "parameters", *, energy_state: dict | None = None,
-         min_gap: float = 0.5, near: float = 0.0) -> list[dict]:
-    """Greedy batch of up to ``k`` candidates: [{"index", "score"}] in pick order.
+#: With ``domain="prefer"`` an out-of-domain candidate is picked over the best in-domain one
+#: only when it gains at least this many times as much.
+CLEARLY_MORE = 1.5
+DOMAINS = ("prefer", "only", "any")
 
-    ``score`` is the log-determinant gain (``parameters``) or the share of the pool's summed
-    predictive variance removed (``predictions``), both dimensionless. A candidate within
-    ``min_gap`` (kcal/mol) of an earlier pick's reaction energy and within ``near`` of it in
-    standardised descriptor space is skipped as a near-duplicate.
+
+def pick(curve, cands: Candidates, k: int, goal: str = "parameters", *, energy_state: dict | None = None,
+         min_gap: float = 0.5, near: float = 0.0, domain: str = "any") -> list[dict]:
+    """Greedy batch of up to ``k`` candidates: [{"index", "score", "best", "domain"}] in pick order.
+
+    ``score`` is the pick's gain at the moment it was picked, given the picks before it: the
+    log-determinant gain (``parameters``) or the share of the pool's summed predictive
+    variance *before any pick* removed (``predictions``), both dimensionless, so scores of one
+    batch compare. ``best``: no other available candidate gained more. ``domain``: ``any``
+    (gain alone), ``only`` (in-domain candidates only) or ``prefer`` (the best in-domain one
+    unless an out-of-domain one gains :data:`CLEARLY_MORE` times as much); each pick's
+    ``domain`` says what happened ("", "preferred in domain: x× less", "out of domain: x× more").
+    A candidate within ``min_gap`` (kcal/mol) of an earlier pick's reaction energy and within
+    ``near`` of it in standardised descriptor space is skipped as a near-duplicate.
     """
     if goal not in GOALS:
         raise ValueError(f"unknown goal {goal!r}; valid choices: {', '.join(GOALS)}")
+    if domain not in DOMAINS:
+        raise ValueError(f"unknown domain rule {domain!r}; valid choices: {', '.join(DOMAINS)}")
     rel, theta = curve.relation_, np.asarray(curve.params_, dtype=float)
     s2 = float(curve.sigma_) ** 2 if np.isfinite(curve.sigma_) and curve.sigma_ > 0 else 1.0
     info = _regularised(np.linalg.pinv(np.asarray(curve.cov_, dtype=float), hermitian=True))
@@ -87,7 +100,11 @@ def pick(curve, cands: Candidates, k: int, goal: str = "parameters", *, energy_s
         alpha_pool = rel.slope(cands.energy, theta)
         A_inv = np.linalg.inv(energy_state["ZtZ"] + energy_state["lambda"] * np.eye(cands.Z.shape[1]))
     available = np.ones(cands.energy.size, dtype=bool)
+    inside = np.asarray(cands.in_domain, dtype=bool)
+    if domain == "only":
+        available &= inside
     picks = []
+    first_total = None
     while len(picks) < k and available.any():
         cov = np.linalg.inv(info)
         if goal == "parameters":
@@ -100,9 +117,22 @@ def pick(curve, cands: Candidates, k: int, goal: str = "parameters", *, energy_s
                 total += float(energy_state["s2"] * np.sum(alpha_pool ** 2 *
                                                            np.einsum("cq,qr,cr->c", cands.Z, A_inv, cands.Z)))
                 gain = gain + _energy_part(cands, energy_state, alpha_pool, A_inv)
-            gain = gain / total if total > 0 else gain
-        best = int(np.argmax(np.where(available, gain, -np.inf)))
-        picks.append({"index": best, "score": float(gain[best])})
+            first_total = total if first_total is None else first_total
+            gain = gain / first_total if first_total > 0 else gain
+        masked = np.where(available, gain, -np.inf)
+        best = int(np.argmax(masked))
+        note = ""
+        if domain == "prefer" and not inside[best] and (available & inside).any():
+            best_in = int(np.argmax(np.where(available & inside, gain, -np.inf)))
+            ratio = gain[best] / gain[best_in] if gain[best_in] > 0 else np.inf
+            if ratio >= CLEARLY_MORE:
+                note = f"out of domain: {ratio:.3g}× the best in-domain gain"
+            else:
+                note = f"preferred in domain: an out-of-domain candidate would gain {ratio:.3g}× as much"
+                best = best_in
+        top = float(np.max(masked))
+        picks.append({"index": best, "score": float(gain[best]), "best": bool(gain[best] >= top - 1e-12),
+                      "domain": note})
         available[best] = False
         info = info + M[best]
         if use_energy and not cands.given[best]:

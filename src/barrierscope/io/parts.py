@@ -79,7 +79,10 @@ def remove_stale_parts(output: Path) -> None:
             pass
 
 
-def assemble(parts: list[Path], rank: np.ndarray, output: Path, fmt: str, *, header_frame) -> None:
+def assemble(parts: list[Path], rank: np.ndarray, output: Path, fmt: str, *, header_frame,
+             metadata: dict | None = None) -> None:
+    """The parts, ranked, into ``output`` (atomically); ``metadata`` (Parquet only) goes into the
+    file's key-value metadata under ``barrierscope`` as JSON."""
     with atomic_path(output) as tmp:
         if fmt == "parquet":
             import pyarrow as pa
@@ -92,6 +95,11 @@ def assemble(parts: list[Path], rank: np.ndarray, output: Path, fmt: str, *, hea
                 r = rank[start:start + table.num_rows]
                 start += table.num_rows
                 table = table.add_column(0, "rank", pa.array(np.where(r > 0, r, None), type=pa.int64()))
+                if metadata is not None:
+                    import json
+
+                    table = table.replace_schema_metadata({**(table.schema.metadata or {}),
+                                                           b"barrierscope": json.dumps(metadata).encode("utf-8")})
                 if writer is None:
                     writer = pq.ParquetWriter(tmp, table.schema)
                 writer.write_table(table)

@@ -57,6 +57,13 @@ class FitOptions:
     #: a column of computed reaction energies (in ``units``) the energy stage is anchored on;
     #: None: the xtb tier's, when computed for every member; "none": never anchored
     computed_energy: str | None = None
+    #: rows repeating a structure with other numbers: refuse, lowest, mean or boltzmann
+    duplicates: str = "refuse"
+    #: K: the Boltzmann weights of --duplicates boltzmann
+    temperature: float = 298.15
+    #: the barriers' step (1: unimolecular, 2: A + B → TS) and their standard state (1M, 1atm)
+    molecularity: int = 1
+    standard_state: str = "1M"
 
 INTERVAL_METHODS = ("model", "jackknife+")
 
@@ -196,6 +203,15 @@ def check_options(opts: FitOptions) -> tuple[str, str]:
     with option("--units"):
         unit = normalize_unit(opts.units)
     one_of("--prediction-intervals", opts.prediction_intervals, INTERVAL_METHODS)
+    from ..io.pairs import DUPLICATE_POLICIES
+
+    one_of("--duplicates", opts.duplicates, DUPLICATE_POLICIES)
+    from ..bimolecular import STANDARD_STATES
+
+    if opts.molecularity not in (1, 2):
+        raise InputError(f"--molecularity {opts.molecularity}: 1 (a unimolecular step) or 2 (A + B → TS)")
+    if opts.standard_state not in STANDARD_STATES:
+        raise InputError(f"--standard-state {opts.standard_state!r}: choose one of {', '.join(STANDARD_STATES)}")
     at_least("--shuffles", opts.n_shuffles, 0)
     if opts.margin is not None and not opts.margin >= 0:
         raise InputError(f"--margin must be zero or a positive energy in the table's unit (got {opts.margin})")
@@ -214,8 +230,13 @@ def check_options(opts: FitOptions) -> tuple[str, str]:
 
 def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
     """(FamilyModel, FitRecord) for one family's table; the record is in kcal/mol, built once."""
+    from ..progress import stage
+
     kind, unit = check_options(opts)
+    stage(f"describing {len(df)} rows" + (f" (tiers {', '.join(engine.tiers)})" if getattr(engine, "tiers", None)
+                                          else ""))
     X, pairs, spec = prepare_members(df, source, spec, engine, opts=opts)
+    stage(f"fitting the routes on {pairs.n} members (learner {opts.learner})")
     has_x = X is not None and X.shape[1] > 0
     _check_sizes(pairs.n, has_x, opts)
     energy, barrier = pairs.energy, pairs.barrier
@@ -226,6 +247,14 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
         raise FitRefused(str(exc)) from None
     curve = two_stage.curve_
     warnings, notes, importance = list(pairs.warnings), [anchor.note] if anchor.note else [], {}
+    if opts.molecularity == 2:
+        from ..bimolecular import standard_state_shift
+
+        notes.append(f"a bimolecular step (A + B → TS), barriers in the {opts.standard_state} standard state: screen "
+                     f"and suggest give second-order rate constants (M⁻¹ s⁻¹) from the 1 M barrier" +
+                     (f" (a 1 atm barrier is {standard_state_shift(opts.temperature):.2f} kcal/mol higher than the 1 M "
+                      f"one at {opts.temperature:g} K, taken off before the rate)" if opts.standard_state == "1atm"
+                      else "") + ", and half-lives with the partner's --concentration")
     if curve.fit_.at_bound:
         warnings.append(f"curve parameter(s) {', '.join(curve.fit_.at_bound)} at the edge of the search range: "
                         f"see the identifiability verdict")
@@ -250,6 +279,7 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
         hammett = hammett_record(X, spec, barrier)
     joint, family_fields = None, {}
     if opts.family_column:
+        stage("fitting the families jointly")
         joint, primary, family_fields = _families(energy, barrier, pairs.families, checked, primary=primary, opts=opts, notes=notes)
     jackknife, intervals, regimes, more = prediction_intervals(X if has_x else None, energy, barrier, primary,
                                                                checked=checked, opts=opts, anchor=anchor)
@@ -279,12 +309,14 @@ def fit_family(df, source: str, spec, engine, *, opts: FitOptions):
                   "keys": pairs.keys if spec.mode != "none" else None,
                   "energy": energy.tolist(), "barrier": barrier.tolist(),
                   "structures": member_structures(df, spec, pairs.rows), "families": pairs.families,
+                  "stands_for": pairs.stands_for,
                   "energy_range": [float(energy.min()), float(energy.max())],
                   "barrier_range": [float(barrier.min()), float(barrier.max())]},
         validation={k: v for k, v in record.as_dict().items() if k != "curve"},
         primary_route=primary, level=opts.level, warnings=warnings,
         descriptor_versions=_versions(engine) if has_x else {}, xtb=_xtb_settings(engine) if has_x else {},
-        intervals=jackknife, family_column=opts.family_column, joint=joint)
+        intervals=jackknife, family_column=opts.family_column, joint=joint, molecularity=opts.molecularity,
+        standard_state=opts.standard_state)
     return model, record
 
 

@@ -87,6 +87,7 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, *, o
             X = pd.concat([X.reset_index(drop=True), one_hot(labels, sorted(set(labels) - {""}))], axis=1)
             X.index = df.index
     pairs = load_pairs(df, source, opts.energy_column, opts.barrier_column, unit=unit, id_col=opts.id_column,
+                       duplicates=getattr(opts, "duplicates", "refuse"), temperature=getattr(opts, "temperature", 298.15),
                        skip_bad_rows=opts.skip_bad_rows, keys=keys, extra_bad=problems)
     if labels is not None:
         pairs.families = [str(v) for v in np.asarray(labels)[pairs.keep]]

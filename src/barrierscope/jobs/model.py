@@ -59,6 +59,9 @@ class FamilyModel:
     #: the table column of computed reaction energies (in ``units``) the energy stage is anchored
     #: on (--computed-energy); a library gives its own values there. None: not a user column
     computed_energy: str | None = None
+    #: the barriers' step: 1 (unimolecular) or 2 (A + B → TS), and their standard state
+    molecularity: int = 1
+    standard_state: str = "1M"
 
     def family_floors(self) -> np.ndarray:
         """Each family's floor (kcal/mol), in code order (several-families models)."""
@@ -155,7 +158,8 @@ class FamilyModel:
             "joint": None if self.joint is None else {"names": self.joint["names"],
                                                       "fit": self.joint["fit"].as_dict()},
             "structure": None if self.structure is None else self.structure.as_dict(),
-            "computed_energy": self.computed_energy,
+            "computed_energy": self.computed_energy, "molecularity": self.molecularity,
+            "standard_state": self.standard_state,
         }
 
     @classmethod
@@ -176,4 +180,5 @@ class FamilyModel:
                    joint=None if not d.get("joint") else {"names": list(d["joint"]["names"]),
                                                           "fit": JointFit.from_dict(d["joint"]["fit"])},
                    structure=StructureCurve.from_dict(d["structure"]) if d.get("structure") else None,
-                   computed_energy=d.get("computed_energy"))
+                   computed_energy=d.get("computed_energy"), molecularity=int(d.get("molecularity", 1)),
+                   standard_state=d.get("standard_state", "1M"))

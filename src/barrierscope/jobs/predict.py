@@ -35,6 +35,15 @@ class ScreenOptions:
     id_column: str | None = None
     cache_dir: str | None = "default"
     max_atoms: int = 200
+    #: library columns carried into the output after barrierscope's own (None: every one)
+    keep: tuple[str, ...] | None = None
+    #: bimolecular steps: molecularity and standard state of the barriers (None: the model's),
+    #: the partner's concentration (mol/L; pseudo-first-order half-lives) and the solvent whose
+    #: viscosity sets the diffusion limit (None: the model's xtb solvent, if any)
+    molecularity: int | None = None
+    standard_state: str | None = None
+    concentration: float | None = None
+    solvent: str | None = None
 
 
 @dataclass
@@ -42,6 +51,29 @@ class ChunkPrediction:
     frame: pd.DataFrame             # one row per input row (kcal/mol, s⁻¹, s)
     X: pd.DataFrame | None          # the model's descriptors of the chunk (None: curve-only model)
     block: object = None            # the FeatureBlock (its ``keys``: each row's structure key)
+    #: the library's own columns carried into the output (after barrierscope's), as given
+    library: pd.DataFrame | None = None
+
+
+def carried_columns(chunk: pd.DataFrame, model, opts) -> list[str]:
+    """The library's columns that follow barrierscope's in the output: every one not already
+    shown (structures, --energy, --family, the id column, internal columns), or ``opts.keep``."""
+    from ..io.tables import id_column_of
+
+    shown = {*model.spec.columns, opts.energy_column, model.family_column, opts.id_column or id_column_of(chunk.columns),
+             ROW, READ_ERROR}
+    cols = [c for c in chunk.columns if c not in shown and not str(c).startswith("_")]
+    return cols if opts.keep is None else [c for c in cols if c in set(opts.keep)]
+
+
+def with_library(frame: pd.DataFrame, library: pd.DataFrame | None) -> pd.DataFrame:
+    """``frame`` followed by the library's own columns; a name barrierscope already uses gets
+    the prefix ``library_``."""
+    if library is None or library.shape[1] == 0:
+        return frame
+    lib = library.reset_index(drop=True)
+    lib.columns = [f"library_{c}" if c in frame.columns else c for c in lib.columns]
+    return pd.concat([frame.reset_index(drop=True), lib], axis=1)
 
 
 def _given_energies(chunk, model, opts, status, *, kind) -> np.ndarray:
@@ -109,8 +141,24 @@ def _families(chunk, model, status, kind):
     return labels, codes
 
 
-def _rates(cols: dict, idx, p: dict, opts: ScreenOptions) -> None:
+def kinetics_of(model, opts: ScreenOptions) -> dict:
+    """The screen's kinetic setting: molecularity, standard state, concentration (M), solvent
+    and its diffusion-limited rate constant (M⁻¹ s⁻¹, or None)."""
+    from ..bimolecular import diffusion_rate, solvent_viscosity
+
+    m = int(opts.molecularity or getattr(model, "molecularity", 1) or 1)
+    state = opts.standard_state or getattr(model, "standard_state", None) or "1M"
+    solvent = opts.solvent or (model.xtb or {}).get("solvent") if m == 2 else None
+    k_diff = diffusion_rate(solvent_viscosity(solvent), opts.temperature) if (m == 2 and solvent) else None
+    return {"molecularity": m, "standard_state": state, "concentration": opts.concentration, "solvent": solvent,
+            "k_diff": k_diff}
+
+
+def _rates(cols: dict, idx, p: dict, opts: ScreenOptions, kin: dict | None = None) -> None:
     t, kappa = opts.temperature, opts.transmission
+    if kin is not None and kin["molecularity"] == 2:
+        _second_order(cols, idx, p, opts, kin)
+        return
     cols["rate_constant_per_s"][idx] = eyring_rate(p["barrier"], t, kappa)
     cols["rate_low90_per_s"][idx] = eyring_rate(p["high"], t, kappa)
     cols["rate_high90_per_s"][idx] = eyring_rate(p["low"], t, kappa)
@@ -119,10 +167,36 @@ def _rates(cols: dict, idx, p: dict, opts: ScreenOptions) -> None:
     cols["half_life_high90_s"][idx] = half_life(p["high"], t, kappa)
 
 
+def _second_order(cols: dict, idx, p: dict, opts: ScreenOptions, kin: dict) -> None:
+    """k (M⁻¹ s⁻¹) from the 1 M barrier, combined with the diffusion limit; with the partner's
+    concentration, the pseudo-first-order k[B] (s⁻¹) and half-life ln 2 / (k[B])."""
+    from ..bimolecular import DIFFUSION_CEILING, barrier_1M, observed_rate, second_order_rate
+
+    t, kappa, state, k_diff = opts.temperature, opts.transmission, kin["standard_state"], kin["k_diff"]
+
+    def k_of(g):
+        return observed_rate(second_order_rate(barrier_1M(g, state, t), t, kappa), k_diff)
+
+    k, k_lo, k_hi = k_of(p["barrier"]), k_of(p["high"]), k_of(p["low"])
+    cols["rate_constant_per_M_per_s"][idx], cols["rate_low90_per_M_per_s"][idx] = k, k_lo
+    cols["rate_high90_per_M_per_s"][idx] = k_hi
+    k_act = second_order_rate(barrier_1M(p["barrier"], state, t), t, kappa)
+    cols["diffusion_limited"][idx] = k_act >= (k_diff if k_diff is not None else DIFFUSION_CEILING)
+    c = kin["concentration"]
+    if c is None:
+        return
+    cols["rate_constant_per_s"][idx], cols["rate_low90_per_s"][idx], cols["rate_high90_per_s"][idx] = \
+        k * c, k_lo * c, k_hi * c
+    with np.errstate(divide="ignore"):
+        cols["half_life_s"][idx] = np.log(2.0) / (k * c)
+        cols["half_life_low90_s"][idx] = np.log(2.0) / (k_hi * c)
+        cols["half_life_high90_s"][idx] = np.log(2.0) / (k_lo * c)
+
+
 FLAGS = ("ad_descriptor_out", "ad_energy_out", "in_domain", "relation_outside", "off_manifold", "energy_clipped",
-         "reaches_floor")
+         "reaches_floor", "diffusion_limited")
 #: Flags this module sets itself rather than reading from the model's prediction.
-OWN_FLAGS = ("in_domain", "reaches_floor")
+OWN_FLAGS = ("in_domain", "reaches_floor", "diffusion_limited")
 
 
 def floor_of(curve) -> float | None:
@@ -141,7 +215,7 @@ def reaches_floor(low, floor) -> np.ndarray:
         return np.isfinite(low) & (low <= np.asarray(floor, dtype=float) + 1e-9)
 NUMERIC = ("energy", "energy_sd", "barrier", "low", "high", "barrier_sd", "alpha", "rate_constant_per_s",
            "rate_low90_per_s", "rate_high90_per_s", "half_life_s", "half_life_low90_s", "half_life_high90_s",
-           "ad_distance")
+           "ad_distance", "rate_constant_per_M_per_s", "rate_low90_per_M_per_s", "rate_high90_per_M_per_s")
 
 
 def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, *, engine) -> ChunkPrediction:
@@ -188,7 +262,7 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
                                                    else floor_of(model.curve))
         cols["in_domain"][idx] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
         if model.energy_kind == "free-energy":
-            _rates(cols, idx, p, opts)
+            _rates(cols, idx, p, opts, kinetics_of(model, opts))
         for flag, text in ((p["relation_outside"], f"outside the {model.curve.relation_.label} relation's range of "
                                                     f"validity"),
                            (p["off_manifold"], GUARD_NOTES["off_manifold"]),
@@ -197,4 +271,4 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
                 notes[j] = "; ".join(x for x in (notes[j], text) if x)
     cols["notes"] = notes
     frame = pd.DataFrame(cols)
-    return ChunkPrediction(frame, X, block)
+    return ChunkPrediction(frame, X, block, library=chunk[carried_columns(chunk, model, opts)])

@@ -207,6 +207,10 @@ class ScreenSummary(Record):
     implausible_half_lives: int = q.count()
     distances: list = q.quantity(q.DISTANCE, factory=list)
     notes: dict = q.quantity(q.COUNT, factory=dict)
+    #: molecularity, standard_state, concentration (mol/L), solvent, diffusion_rate_per_M_per_s
+    kinetics: dict = q.quantity(q.TEXT, factory=dict)
+    #: ok rows whose activation-controlled rate reaches the diffusion limit (bimolecular steps)
+    diffusion_limited: int = q.count()
 
 
 @dataclass(frozen=True)
@@ -220,6 +224,12 @@ class PickFacts(Record):
     goal: str = q.text()
     floor_open: bool = q.flag(False)
     threshold: float | None = q.quantity(q.DISTANCE, None)
+    #: a gap counts as sparse sampling above this (kcal/mol): twice the members' median spacing
+    sparse_gap: float | None = q.energy()
+    #: no other available candidate gained more when this one was picked
+    best: bool = q.flag(True)
+    #: what the --domain rule did for this pick ("" when nothing)
+    domain: str = q.text()
 
 
 @dataclass(frozen=True)
@@ -248,6 +258,8 @@ class SuggestRecord(Record):
     """What to compute next, and what was left out and why."""
 
     goal: str = q.text()
+    #: the domain rule: prefer (in-domain first unless clearly outgained), only, any
+    domain: str = q.text("prefer")
     k: int = q.count()
     units: str = q.text("kcal/mol")
     energy_kind: str = q.text("free-energy")

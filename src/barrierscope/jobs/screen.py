@@ -14,6 +14,7 @@ own column (``reaches_floor``) and a count in the summary, never a rank.
 
 from __future__ import annotations
 
+import json
 import sys
 import time
 from collections import Counter
@@ -24,9 +25,10 @@ import numpy as np
 
 from ..errors import InputError
 from ..io import parts as partfiles
+from ..io.atomic import write_text_atomic
 from ..io.tables import READ_ERROR, ROW, detect_format, id_column_of, iter_table, require_columns
 from ..views.columns import screen_frame
-from .predict import OK, ScreenOptions, floor_of, predict_chunk
+from .predict import OK, ScreenOptions, floor_of, kinetics_of, predict_chunk, with_library
 from .executors import cached_engine, cached_model, ordered_results
 from .records import ScreenSummary, TopRow
 
@@ -42,6 +44,7 @@ class _Tally:
     energy_given: int = 0
     implausible_half_lives: int = 0
     at_floor: int = 0
+    diffusion_limited: int = 0
     half_life_bands: Counter = field(default_factory=Counter)
     top: list = field(default_factory=list)
     distances: list = field(default_factory=list)
@@ -79,8 +82,11 @@ def screen_chunk(args):
     content, key, chunk, source, opts, fmt, top, part = args
     model = cached_model(content, key)
     engine = cached_engine(model, opts.cache_dir) if model.has_structures else None
-    pred = predict_chunk(model, chunk, source, opts, engine=engine).frame
-    frame = screen_frame(pred, model.units, rounded=fmt != "parquet")
+    chunk_pred = predict_chunk(model, chunk, source, opts, engine=engine)
+    pred = chunk_pred.frame
+    bimolecular = kinetics_of(model, opts)["molecularity"] == 2
+    frame = with_library(screen_frame(pred, model.units, rounded=fmt != "parquet", bimolecular=bimolecular),
+                         chunk_pred.library)
     if part is not None:
         partfiles.write_part(frame, part, fmt)
         frame = frame.iloc[:0]
@@ -97,6 +103,7 @@ def _chunk_summary(pred, top: int, structure_columns) -> dict:
             "implausible": int(np.sum(ok & np.isfinite(t) & ((t < HALF_LIFE_BOUNDS[0]) | (t > HALF_LIFE_BOUNDS[1])))),
             "distances": d[np.isfinite(d)][:2000], "barrier": np.where(ok, pred["barrier"].to_numpy(dtype=float), np.nan),
             "at_floor": int((ok & pred["reaches_floor"].to_numpy(dtype=bool)).sum()),
+            "diffusion_limited": int((ok & pred["diffusion_limited"].to_numpy(dtype=bool)).sum()),
             "half_life_bands": half_life_bands(t[ok]),
             "top": _merge_top([], pred, top, structure_columns) if top else [], "notes": note_kinds(pred["notes"])}
 
@@ -148,9 +155,9 @@ def _tasks(library, in_fmt, model, opts, *, content, key, chunk_size, fmt, top, 
     # The user's own descriptor columns and computed energies: read where the library has them.
     optional = set(model.extra_descriptors) | ({model.computed_energy} if model.computed_energy else set())
     for k, chunk in enumerate(iter_table(library, chunk_size=chunk_size, fmt=in_fmt)):
-        require_columns(chunk, needed + ([opts.id_column] if opts.id_column else []), library)
-        keep = [c for c in chunk.columns if c in set(needed) | optional | {ROW, opts.id_column,
-                                                                           id_column_of(chunk.columns), READ_ERROR}]
+        require_columns(chunk, needed + ([opts.id_column] if opts.id_column else []) + list(opts.keep or ()), library)
+        wanted = set(needed) | optional | {ROW, opts.id_column, id_column_of(chunk.columns), READ_ERROR}
+        keep = [c for c in chunk.columns if c in wanted or opts.keep is None or c in set(opts.keep)]
         yield (content, key, chunk[keep], str(library), opts, fmt, top, part_path(folder, k, fmt) if local else None)
 
 
@@ -166,12 +173,42 @@ def _count(summary: _Tally, part: dict, top: int) -> None:
     summary.energy_given += part["energy_given"]
     summary.implausible_half_lives += part["implausible"]
     summary.at_floor += part["at_floor"]
+    summary.diffusion_limited += part["diffusion_limited"]
     summary.half_life_bands.update(part["half_life_bands"])
     summary.notes.update(part.get("notes", {}))
     if len(summary.distances) < 20000:
         summary.distances += part["distances"].tolist()
     if top:
         summary.top = sorted(summary.top + part["top"], key=lambda r: (not r.in_domain, r.barrier))[:top]
+
+
+def _kinetics_record(model, opts) -> dict:
+    kin = kinetics_of(model, opts)
+    return {k: kin[k] for k in ("molecularity", "standard_state", "concentration", "solvent")} | \
+        {"diffusion_rate_per_M_per_s": kin["k_diff"]}
+
+
+def meta_path(output: Path) -> Path:
+    """Where a CSV/TSV output's description goes: ``OUT.meta.json`` beside it."""
+    return Path(output).with_name(Path(output).name + ".meta.json")
+
+
+def screen_metadata(model_path, model, opts, *, library, rows: int) -> dict:
+    """What a screen's output file needs to describe itself: the conditions, the units, the
+    model (its file's SHA-256) and the run."""
+    import hashlib
+    from datetime import datetime, timezone
+
+    from .. import __version__
+
+    kin = kinetics_of(model, opts)
+    return {"format": "barrierscope-screen", "temperature_K": opts.temperature, "units": model.units,
+            "energy_kind": model.energy_kind, "molecularity": kin["molecularity"],
+            "concentration_M": kin["concentration"], "standard_state": kin["standard_state"],
+            "solvent": kin["solvent"], "diffusion_rate_per_M_per_s": kin["k_diff"], "transmission": opts.transmission,
+            "model": str(model_path), "model_sha256": hashlib.sha256(Path(model_path).read_bytes()).hexdigest(),
+            "library": str(library), "rows": rows, "barrierscope_version": __version__,
+            "created": datetime.now(timezone.utc).isoformat(timespec="seconds")}
 
 
 def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=None, chunk_size: int = 20000,
@@ -219,7 +256,11 @@ def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=Non
             bar.update(piece["rows"])
         bar.close()
         b = np.concatenate(barriers) if barriers else np.zeros(0)
-        partfiles.assemble(parts, ranks(b), output, out_fmt, header_frame=header)
+        meta = screen_metadata(model_path, model, opts, library=library, rows=int(b.size))
+        partfiles.assemble(parts, ranks(b), output, out_fmt, header_frame=header,
+                           metadata=meta if out_fmt == "parquet" else None)
+        if out_fmt != "parquet":
+            write_text_atomic(meta_path(output), json.dumps(meta, indent=2) + "\n")
     finally:
         partfiles.discard(folder)
     seconds = time.monotonic() - t0
@@ -231,7 +272,8 @@ def run_screen(model_path, library, output, opts: ScreenOptions, *, executor=Non
                          half_life_bands=({k: tally.half_life_bands.get(k, 0) for k, _ in HALF_LIFE_BANDS}
                                           if sum(tally.half_life_bands.values()) else {}),
                          implausible_half_lives=tally.implausible_half_lives, distances=tally.distances,
-                         notes=dict(tally.notes))
+                         notes=dict(tally.notes), kinetics=_kinetics_record(model, opts),
+                         diffusion_limited=tally.diffusion_limited)
 
 
 class _Progress:

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..estimators.design import GOALS, Candidates, energy_state, pick
+from ..estimators.design import DOMAINS, GOALS, Candidates, energy_state, pick
 from ..io.modelfile import load_model
 from ..io.tables import read_table
 from .executors import cached_engine
@@ -38,9 +38,11 @@ def _already_computed(model, frame, keys) -> np.ndarray:
     return seen
 
 
-def _facts(model, cands: Candidates, c: int, goal: str) -> PickFacts:
+def _facts(model, cands: Candidates, c: int, goal: str, chosen: dict | None = None) -> PickFacts:
     """What a pick's reason rests on (kcal/mol)."""
     train_e = np.asarray(model.training["energy"], dtype=float)
+    spacing = np.diff(np.sort(train_e))
+    sparse = 2.0 * float(np.median(spacing)) if spacing.size else None
     e = float(cands.energy[c])
     curve = model.curve
     where = "gap"
@@ -54,16 +56,19 @@ def _facts(model, cands: Candidates, c: int, goal: str) -> PickFacts:
             where = "midpoint"
     return PickFacts(where=where, gap=float(np.min(np.abs(train_e - e))), below=float(train_e.min() - e),
                      above=float(e - train_e.max()), goal=goal, floor_open=any(curve.ci_open_.get("floor", ())),
-                     threshold=float(model.domain.threshold_) if np.isfinite(model.domain.threshold_) else None)
+                     threshold=float(model.domain.threshold_) if np.isfinite(model.domain.threshold_) else None,
+                     sparse_gap=sparse, best=bool((chosen or {}).get("best", True)),
+                     domain=str((chosen or {}).get("domain", "")))
 
 
 def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", *, energy_column: str | None = None,
                  energy_units: str | None = None, id_column: str | None = None, cache_dir="default",
-                 max_atoms: int = 200, model=None) -> SuggestRecord:
+                 max_atoms: int = 200, model=None, domain: str = "prefer") -> SuggestRecord:
     """Picks with scores and the facts behind them, plus what was left out and why.
     ``candidates_path`` is a table file, or a DataFrame as :func:`..io.tables.read_table` gives."""
     at_least("-k", k, 1)
     goal = one_of("--goal", goal, GOALS)
+    domain = one_of("--domain", domain, DOMAINS)
     model = model if model is not None else load_model(model_path)
     if hasattr(candidates_path, "columns"):  # a DataFrame read with io.tables (it has the row column)
         table, candidates_path = candidates_path, "candidates"
@@ -91,18 +96,21 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
                        given=(sub["energy_source"] == "given").to_numpy())
     near = float(np.median(model.domain.train_distances_)) if model.domain.train_distances_.size else 0.0
     picks = pick(model.curve, cands, k, goal, energy_state=energy_state(model) if goal == "predictions" else None,
-                 min_gap=max(0.5, float(np.median(cands.energy_sd))), near=near)
+                 min_gap=max(0.5, float(np.median(cands.energy_sd))), near=near, domain=domain)
     out = [Pick(id=str(cands.ids[p["index"]]), score=p["score"], energy=float(cands.energy[p["index"]]),
                 energy_sd=float(cands.energy_sd[p["index"]]), energy_given=bool(cands.given[p["index"]]),
                 in_domain=bool(cands.in_domain[p["index"]]), ad_distance=float(cands.ad_distance[p["index"]]),
                 barrier=float(sub.loc[p["index"], "barrier"]), low=float(sub.loc[p["index"], "low"]),
-                high=float(sub.loc[p["index"], "high"]), facts=_facts(model, cands, p["index"], goal),
+                high=float(sub.loc[p["index"], "high"]), facts=_facts(model, cands, p["index"], goal, p),
                 energy_outside_span=bool(sub.loc[p["index"], "ad_energy_out"]),
                 energy_clipped=bool(sub.loc[p["index"], "energy_clipped"]),
                 unusual_descriptors=bool(sub.loc[p["index"], "off_manifold"]),
                 structure={c: str(sub.loc[p["index"], c]) for c in model.spec.columns if c in sub.columns})
            for p in picks]
-    return SuggestRecord(goal=goal, k=k, units=model.units, energy_kind=model.energy_kind, candidates=int(len(frame)), considered=int(pool.sum()),
+    if domain == "only" and not picks:
+        raise DataError(f"{candidates_path}: no in-domain candidate is left to suggest; --domain prefer or any "
+                         f"considers the others")
+    return SuggestRecord(goal=goal, domain=domain, k=k, units=model.units, energy_kind=model.energy_kind, candidates=int(len(frame)), considered=int(pool.sum()),
                          already_computed=int(done.sum()),
                          already_computed_ids=frame.loc[done, "id"].astype(str).tolist(),
                          left_out={str(kind): int(v) for kind, v in frame.loc[~ok, "error_kind"].value_counts().items()},

@@ -138,10 +138,13 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
     loo = None
     capped = fits = 0
     designs: dict = {}  # ridge fold designs shared by every target on the same splits
+    from ..progress import stage
+
     for name, regime in plan.items():
         if regime.skipped:
             regimes_out[name] = RegimeRecord(skipped=regime.skipped)
             continue
+        stage(f"validating: {name} ({len(regime.splits)} split(s), every route refitted in each)")
         oof = out_of_fold(X if has_x else None, energy, barrier, regime.splits, designs=designs, **kw)
         regimes_out[name] = _regime_record(oof, energy, barrier, ids, random_state=opts.random_state,
                                            scheme=SCHEMES.get(name, name) if name != "loo" else loo_scheme(energy.size),
@@ -165,6 +168,12 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
     if capped:
         notes.append(f"the {opts.learner} learner's hyper-parameter search stopped at a bound or an "
                      f"iteration limit in {capped} of {fits} validation refits; those fits stand")
+    shuffled = None
+    if has_x and shuffles:
+        stage(f"y-randomisation ({shuffles} shuffles)")
+        shuffled = y_randomization(X, energy, barrier, opts.learner, relation=opts.relation, n_shuffles=shuffles,
+                                   random_state=opts.random_state, designs=designs, anchor=kw["anchor"],
+                                   fixed=opts.fixed)
     return ValidationRecord(
         validation=regimes_out,
         routes={r: top.routes.get(r) for r in ROUTES},
@@ -174,7 +183,5 @@ def validate(X, energy, barrier, ids, *, opts: ValidationOptions = ValidationOpt
         winner=top.winner, members=_members(loo, energy, barrier, ids),
         relations_chosen_in_folds=({k: loo.relations.count(k) for k in sorted(set(loo.relations))}
                                    if opts.relation == "auto" else None),
-        y_randomization=(y_randomization(X, energy, barrier, opts.learner, relation=opts.relation, n_shuffles=shuffles,
-                                         random_state=opts.random_state, designs=designs, anchor=kw["anchor"],
-                                         fixed=opts.fixed) if has_x and shuffles else None),
+        y_randomization=shuffled,
         notes=notes)

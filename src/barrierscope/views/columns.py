@@ -30,6 +30,9 @@ SCHEMA = (
     ("rate_constant_per_s", "rate_constant_per_s", "sig4"),
     ("rate_low90_per_s", "rate_low90_per_s", "sig4"),
     ("rate_high90_per_s", "rate_high90_per_s", "sig4"),
+    ("rate_constant_per_M_per_s", "rate_constant_per_M_per_s", "sig4"),
+    ("rate_low90_per_M_per_s", "rate_low90_per_M_per_s", "sig4"),
+    ("rate_high90_per_M_per_s", "rate_high90_per_M_per_s", "sig4"),
     ("half_life_s", "half_life_s", "sig4"),
     ("half_life_low90_s", "half_life_low90_s", "sig4"),
     ("half_life_high90_s", "half_life_high90_s", "sig4"),
@@ -41,6 +44,7 @@ SCHEMA = (
     ("unusual_descriptors", "off_manifold", "text"),
     ("in_domain", "in_domain", "text"),
     ("reaches_floor", "reaches_floor", "text"),
+    ("diffusion_limited", "diffusion_limited", "text"),
     ("route", "route", "text"),
     ("notes", "notes", "text"),
 )
@@ -70,9 +74,14 @@ def _durations(seconds) -> np.ndarray:
     return np.array([format_duration(float(t)) if np.isfinite(t) else "" for t in s], dtype=object)
 
 
-def screen_frame(pred: pd.DataFrame, unit: str, rounded: bool = True) -> pd.DataFrame:
+#: Columns of bimolecular screens only (second-order rate constants and the diffusion flag).
+BIMOLECULAR = {"rate_constant_per_M_per_s", "rate_low90_per_M_per_s", "rate_high90_per_M_per_s", "diffusion_limited"}
+
+
+def screen_frame(pred: pd.DataFrame, unit: str, rounded: bool = True, bimolecular: bool = False) -> pd.DataFrame:
     """The output table of a prediction frame: identification columns as they came, then
-    :data:`SCHEMA` in the user's ``unit``; ``rounded`` for CSV/TSV."""
+    :data:`SCHEMA` in the user's ``unit`` (:data:`BIMOLECULAR` only for a bimolecular step);
+    ``rounded`` for CSV/TSV."""
     f = factor_to_kcal(unit)
     slug = unit_slug(unit)
     first = [c for c in pred.columns if c not in {s for _, s, _ in SCHEMA} and c not in ("low", "high",
@@ -80,6 +89,8 @@ def screen_frame(pred: pd.DataFrame, unit: str, rounded: bool = True) -> pd.Data
                                                                                          "row_floor")]
     out = pred[first].copy()
     for name, source, kind in SCHEMA:
+        if name in BIMOLECULAR and not bimolecular:
+            continue
         v = pred[source]
         if kind == "energy":
             v = v.to_numpy(dtype=float) / f

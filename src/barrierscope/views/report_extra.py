@@ -30,6 +30,9 @@ def screen_section(summary, unit: str, mode: str = "", structure_columns=()) -> 
         parts.append(f"<p><b>{s['at_floor']} rows have barrier intervals that reach the floor</b> "
                      f"({where} {esc(unit)}): they are ranked by their predicted barrier, but the model cannot tell "
                      f"them from the floor (column <code>reaches_floor</code>).</p>")
+    from .screen_text import bimolecular_lines
+
+    parts += [f"<p>{esc(line)}</p>" for line in bimolecular_lines(s)]
     if s.get("half_life_bands"):
         parts.append(f"<p>Half-lives at {s['temperature']:g} K from the predicted barriers (ok rows):</p>" +
                      table(list(s["half_life_bands"]), [[str(v) for v in s["half_life_bands"].values()]]))

@@ -11,6 +11,30 @@ from .cautions import CAUTION, rate_note
 from .units import in_unit
 
 
+def bimolecular_lines(s: dict) -> list[str]:
+    """What a bimolecular screen did: the standard state, the partner, the diffusion limit."""
+    kin = s.get("kinetics") or {}
+    if kin.get("molecularity") != 2:
+        return []
+    from ..bimolecular import standard_state_shift
+
+    t = s.get("temperature", 298.15)
+    state = ("barriers in the 1 M standard state" if kin.get("standard_state") == "1M" else
+             f"barriers in the 1 atm standard state, {standard_state_shift(t):.2f} kcal/mol lower in the 1 M one "
+             f"used for the rates")
+    partner = (f"the partner at {kin['concentration']:.3g} M: half-lives ln 2 / (k[B]), pseudo-first order"
+               if kin.get("concentration") else "no --concentration: second-order rate constants only, no half-lives")
+    limit = (f"diffusion limit in {kin['solvent']} {kin['diffusion_rate_per_M_per_s']:.2g} M⁻¹ s⁻¹ (8RT/3η), "
+             f"combined as 1/k = 1/k_act + 1/k_diff" if kin.get("solvent") else
+             "no --solvent: no diffusion limit applied (rows above 1e10 M⁻¹ s⁻¹ are flagged)")
+    lines = [f"bimolecular step (A + B → TS): {state}; rate constants in M⁻¹ s⁻¹ "
+             f"(rate_constant_per_M_per_s); {partner}; {limit}"]
+    if s.get("diffusion_limited"):
+        lines.append(f"{s['diffusion_limited']} ok rows react at the diffusion limit (column diffusion_limited): "
+                     f"their rank among themselves says little")
+    return lines
+
+
 def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) -> str:
     """``summary``: a ScreenSummary (kcal/mol); ``top`` rows of it shown (all by default)."""
     s = in_unit(summary, unit)
@@ -24,6 +48,7 @@ def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) 
     note = rate_note(energy_kind)
     if note:
         lines.append(note)
+    lines += bimolecular_lines(s)
     if s.get("at_floor") and s.get("family_floors"):
         floors = ", ".join(f"{k} {v:.3g}" for k, v in s["family_floors"].items())
         lines.append(f"{s['at_floor']} ok rows have barrier intervals that reach their family's floor ({floors} "
@@ -56,7 +81,9 @@ def format_screen(summary, unit: str, energy_kind: str, top: int | None = None) 
         kinds = sorted(s["notes"].items(), key=lambda kv: -kv[1])
         lines.append(f"notes on the rows (the notes column of {s['output']}): " +
                      "; ".join(f"{v} × {k}" for k, v in kinds))
-    lines.append(f"written to {s['output']}")
+    out = str(s["output"])
+    lines.append(f"written to {out}" + ("" if out.endswith(".parquet") else
+                                       f" (its temperature, units, model and version in {out}.meta.json)"))
     lines.append(CAUTION)
     return "\n".join(lines)
 

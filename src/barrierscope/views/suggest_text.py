@@ -5,6 +5,7 @@ Takes the suggest record (kcal/mol) and the unit to show.
 
 from __future__ import annotations
 
+from ..estimators.design import CLEARLY_MORE
 from .labels import energy_labels
 from .units import in_unit
 
@@ -24,9 +25,12 @@ def reason(p: dict, unit: str, kind: str = "free-energy") -> str:
     elif f["where"] == "midpoint":
         parts = [f"sits near the midpoint M ({where} {dE} {e:.3g} {unit}), where the curvature, and so the width W, "
                  f"is decided"]
-    else:
+    elif f.get("sparse_gap") is not None and f["gap"] >= f["sparse_gap"]:
         parts = [f"fills a sparsely sampled part of the curve ({where} {dE} {e:.3g} {unit}, {f['gap']:.2g} from the "
-                 f"nearest training member)"]
+                 f"nearest training member; members there are usually within {f['sparse_gap'] / 2:.2g} of each other)"]
+    else:
+        parts = [f"lies among the members ({where} {dE} {e:.3g} {unit}, {f['gap']:.2g} from the nearest training "
+                 f"member)"]
     if not p["energy_given"] and p["energy_sd"] > 0:
         parts.append(f"its reaction energy is uncertain by ±{p['energy_sd']:.2g}, which the calculation will settle")
     d, t = p["ad_distance"], f["threshold"]
@@ -39,15 +43,24 @@ def reason(p: dict, unit: str, kind: str = "free-energy") -> str:
         parts.append("its predicted reaction energy lay beyond the members' span + 25 % and was clipped there")
     if p.get("unusual_descriptors"):
         parts.append("its descriptor combination is unlike the members' (the energy stage's guard acted)")
+    given = " given the picks before it" if p.get("rank", 1) > 1 else ""
     if f["goal"] == "predictions":
-        parts.append("computing it would cut the predictive variance over the candidate pool the most")
+        gain = f"removes {p['score']:.1%} of the candidate pool's summed predictive variance (before any pick){given}"
+    else:
+        gain = f"adds {p['score']:.2g} to the log-determinant of the curve's information{given}"
+    if f.get("best", True) and not f.get("domain"):
+        gain += ", the most of any candidate left"
+    parts.append(gain)
+    if f.get("domain"):
+        parts.append(f["domain"] + f" (--domain prefer: out of domain only at {CLEARLY_MORE:g}× the gain)")
     return "; ".join(parts)
 
 
 def suggest_json(result) -> dict:
     """The SuggestRecord in its own unit, each pick with its reason."""
     out = in_unit(result, result.units)
-    for p in out["picks"]:
+    for rank, p in enumerate(out["picks"], start=1):
+        p["rank"] = rank
         p["reason"] = reason(p, out["units"], out.get("energy_kind", "free-energy"))
     return out
 
@@ -56,7 +69,8 @@ def format_suggestions(result: dict) -> str:
     s = suggest_json(result)
     unit = s["units"]
     dE = energy_labels(s.get("energy_kind", "free-energy"))[0]
-    lines = [f"{s['considered']} of {s['candidates']} candidates considered; goal: {s['goal']}"]
+    lines = [f"{s['considered']} of {s['candidates']} candidates considered; goal: {s['goal']}; domain: "
+             f"{s.get('domain', 'prefer')}; each score is the pick's gain when it was picked, given the picks before it"]
     if s["already_computed"]:
         lines.append(f"left out as already computed (same id or structure as a training member): "
                      f"{s['already_computed']}")
