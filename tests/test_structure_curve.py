@@ -112,3 +112,37 @@ def test_the_model_predicts_through_it_when_it_is_the_route(tmp_path):
     assert (hits["route"] == "structure_curve_on_given_energy").all()
     # The conjugated centre sits on the higher floor (the invented truth: +3.5 kcal/mol).
     assert hits.loc["a", "barrier_kcal_mol"] - hits.loc["b", "barrier_kcal_mol"] > 2.0
+
+
+def test_the_stacked_solver_gives_each_set_s_own_fit():
+    """Validation fits every split's structure curve in one stacked problem; each must be the
+    curve fitted on that split alone (and that one a true minimum: scipy's least_squares from
+    the solution, at the same penalty, moves nowhere)."""
+    from scipy.optimize import least_squares
+
+    from barrierscope.curves.structure import PENALTIES
+    from barrierscope.validation.routes import structure_fits
+
+    X, x, y, _ = _invented(7, n=36)
+    rng = np.random.default_rng(0)
+    trains = [np.sort(rng.choice(36, 28, replace=False)) for _ in range(4)]
+    grids = [PENALTIES, PENALTIES, (3.0,), (0.3,)]
+    fits, views = structure_fits(X, x, y, trains, names=["asymptotic"] * 4, thetas=[None] * 4, grids=grids)
+    for t, g, fit, Z in zip(trains, grids, fits, views):
+        alone = StructureCurve(penalties=g).fit(X.iloc[t], x[t], y[t])
+        assert fit.penalty_ == alone.penalty_
+        assert np.allclose(fit.predict(None, x, Z=Z), alone.predict(X, x), atol=1e-8)
+        # A minimum of the penalised objective: least_squares started there stays there.
+        q = Z.shape[1]
+        u = np.concatenate([fit.theta0_, np.ravel(fit.coef_)])
+        lo, hi = (np.asarray(b) for b in fit.bounds_)
+
+        def resid(v):
+            th = np.tile(v[:3], (t.size, 1))
+            th[:, :2] += Z[t] @ v[3:].reshape(2, q).T
+            return np.concatenate([REL.barrier(x[t][:, None], th)[:, 0] - y[t], np.sqrt(fit.penalty_) * v[3:]])
+
+        ref = least_squares(resid, u, bounds=(np.r_[lo, np.full(2 * q, -np.inf)], np.r_[hi, np.full(2 * q, np.inf)]),
+                            xtol=1e-12, ftol=1e-12, gtol=1e-12)
+        assert np.sum(ref.fun ** 2) >= np.sum(resid(u) ** 2) - 1e-6
+        assert np.allclose(ref.x, u, atol=1e-3)

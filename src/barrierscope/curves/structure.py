@@ -48,20 +48,33 @@ def is_centre_column(name: str) -> bool:
     return n.startswith("centre") or "_centre_" in n
 
 
-def _design(relation, x, Z, moving_idx, u, p):
-    """(per-member parameters Θ (n, p), B (k, q)) from the unknowns u = [θ0, B.ravel()]."""
-    theta0 = u[:p]
-    B = u[p:].reshape(len(moving_idx), Z.shape[1])
-    Theta = np.tile(theta0, (x.size, 1))
-    Theta[:, moving_idx] += Z @ B.T
-    return Theta, B
+def basis(A: np.ndarray, names: list[str], n: int, max_features: int = None):
+    """(Preprocessor, components or None) fitted on the training members' descriptors A
+    (n_train, d): imputed and standardised, reduced to the leading principal components when
+    there are more than ``max_features`` or a quarter of the members."""
+    pre = Preprocessor.fit(A, names)
+    S = pre.transform(A)
+    q = min(int(max_features or MAX_FEATURES), max(1, n // 4), S.shape[1])
+    if S.shape[1] > q:
+        _, _, Vt = np.linalg.svd(S - S.mean(axis=0), full_matrices=False)
+        return pre, Vt[:q]
+    return pre, None
 
 
-def _clip_theta(Theta, lo, hi, moving_idx):
-    """Keep each member's moving parameters inside the relation's bounds (λ > 0 ...)."""
-    T = Theta.copy()
-    T[:, moving_idx] = np.clip(T[:, moving_idx], lo[moving_idx], hi[moving_idx])
-    return T
+def project(pre, components, A: np.ndarray) -> np.ndarray:
+    """Rows A (raw descriptors) in a basis from :func:`basis` (n, q)."""
+    S = pre.transform(A)
+    return S if components is None else S @ np.asarray(components).T
+
+
+def select(X) -> tuple[np.ndarray, list[str]]:
+    """The descriptors a structure curve uses: the centre tier's columns when there are any,
+    else every one (raw values, n × d, and their names)."""
+    names = [str(c) for c in X.columns] if hasattr(X, "columns") else [f"x{j}" for j in range(np.shape(X)[1])]
+    A = X.to_numpy(dtype=float) if hasattr(X, "to_numpy") else np.asarray(X, dtype=float)
+    centre = [j for j, c in enumerate(names) if is_centre_column(c)]
+    cols = centre if centre else list(range(len(names)))
+    return A[:, cols], [names[j] for j in cols]
 
 
 class StructureCurve:
@@ -87,138 +100,104 @@ class StructureCurve:
         self.max_features = max_features
 
     # -- features -------------------------------------------------------------------------
-    def _select(self, X) -> tuple[np.ndarray, list[str]]:
-        names = [str(c) for c in X.columns] if hasattr(X, "columns") else [f"x{j}" for j in range(np.shape(X)[1])]
-        A = X.to_numpy(dtype=float) if hasattr(X, "to_numpy") else np.asarray(X, dtype=float)
-        centre = [j for j, c in enumerate(names) if is_centre_column(c)]
-        cols = centre if centre else list(range(len(names)))
-        return A[:, cols], [names[j] for j in cols]
-
     def _z(self, X) -> np.ndarray:
         cols = self.preprocessor_.columns
-        if hasattr(X, "columns"):
-            A = X[[c for c in cols]].to_numpy(dtype=float) if all(c in X.columns for c in cols) else \
-                X.to_numpy(dtype=float)
+        if hasattr(X, "columns") and all(c in X.columns for c in cols):
+            A = X[list(cols)].to_numpy(dtype=float)
         else:
-            A = np.asarray(X, dtype=float)
-            if A.shape[1] != len(cols):
-                A = self._select(A)[0]
-        S = self.preprocessor_.transform(A)
-        return S if self.components_ is None else S @ np.asarray(self.components_).T
+            A = select(X)[0]
+        return project(self.preprocessor_, self.components_, A)
 
     # -- fitting --------------------------------------------------------------------------
     def fit(self, X, energy, barrier, theta_start=None):
         """Fit on descriptors X (n, d; DataFrame or array), reaction energies and barriers (n,),
         kcal/mol. ``theta_start``: the plain curve's parameters, to start from (optional)."""
-        from scipy.optimize import least_squares
+        from .structure_solve import solve_path
 
         rel = get_relation(self.relation)
         if rel.name not in MOVING:
             raise ValueError(f"the {rel.name} relation has no structure-dependent form; valid choices: "
                              f"{', '.join(MOVING)}")
         x, y = np.asarray(energy, dtype=float), np.asarray(barrier, dtype=float)
-        A, names = self._select(X)
-        self.preprocessor_ = Preprocessor.fit(A, names)
-        S = self.preprocessor_.transform(A)
-        self.features_ = self.preprocessor_.kept_columns
-        q = min(int(self.max_features), max(1, x.size // 4), S.shape[1])
-        self.components_ = None
-        if S.shape[1] > q:
-            _, _, Vt = np.linalg.svd(S - S.mean(axis=0), full_matrices=False)
-            self.components_ = Vt[:q].tolist()
-            S = S @ Vt[:q].T
-        Z = S
-        p = rel.n_params
-        moving = [rel.param_names.index(m) for m in MOVING[rel.name]]
+        A, names = select(X)
+        pre, comps = basis(A, names, x.size, self.max_features)
+        Z = project(pre, comps, A)
         lo, hi = rel.bounds(x, y)
         if theta_start is None:
             theta_start = fit_relation(rel, x, y).params
-        k = len(moving) * Z.shape[1]
-        u = np.concatenate([np.clip(np.asarray(theta_start, dtype=float), lo, hi), np.zeros(k)])
-        lower = np.concatenate([lo, np.full(k, -np.inf)])
-        upper = np.concatenate([hi, np.full(k, np.inf)])
-        best = None
-        for lam in sorted(self.penalties, reverse=True):       # strong to weak, each from the last
-            root = np.sqrt(lam)
+        moving = [rel.param_names.index(mv) for mv in MOVING[rel.name]]
+        u0 = np.concatenate([np.clip(np.asarray(theta_start, dtype=float), lo, hi), np.zeros(len(moving) * Z.shape[1])])
+        grid = np.array([sorted(self.penalties, reverse=True)], dtype=float)
+        sol = solve_path(rel, x, y, np.ones((1, x.size)), Z[None], u0[None], grid, lo[None], hi[None], moving)
+        return self._set(rel, pre, comps, {k: (v[0] if k != "weak" else {kk: vv[0] for kk, vv in v.items()})
+                                           for k, v in sol.items()}, (lo, hi), x.size, Z, X)
 
-            def resid(v):
-                Theta, B = _design(rel, x, Z, moving, v, p)
-                b = rel.barrier(x[:, None], _clip_theta(Theta, lo, hi, moving))[:, 0]
-                return np.concatenate([b - y, root * B.ravel()])
-
-            def jac(v):
-                Theta, _ = _design(rel, x, Z, moving, v, p)
-                Jt = rel.jacobian(x[:, None], _clip_theta(Theta, lo, hi, moving))[:, 0, :]
-                J = np.zeros((x.size + k, p + k))
-                J[: x.size, :p] = Jt
-                for j, m in enumerate(moving):
-                    J[: x.size, p + j * Z.shape[1]: p + (j + 1) * Z.shape[1]] = Jt[:, [m]] * Z
-                J[x.size:, p:] = root * np.eye(k)
-                return J
-
-            res = least_squares(resid, np.clip(u, lower, upper), jac=jac, bounds=(lower, upper), method="trf",
-                                max_nfev=200)
-            u = res.x
-            r = res.fun[: x.size]
-            Jd = jac(u)[: x.size]
-            P = np.zeros(p + k)
-            P[p:] = lam
-            Ainv = np.linalg.pinv(Jd.T @ Jd + np.diag(P))
-            h = np.einsum("ij,jk,ik->i", Jd, Ainv, Jd)
-            loo = r / np.clip(1.0 - h, 1e-6, None)
-            score = float(np.mean(loo ** 2))
-            if best is None or score < best[0]:
-                best = (score, lam, u.copy(), r.copy(), Jd.copy(), Ainv.copy(), h)
-            least = (u.copy(), r.copy(), Jd.copy(), Ainv.copy(), h)     # ends as the weakest penalty's
-        score, lam, u, r, Jd, Ainv, h = best
-        self.penalty_ = float(lam)
+    def _set(self, rel, pre, comps, sol: dict, bounds, n: int, Z, X=None):
+        """The fitted state from one training set's solution (:func:`.structure_solve.solve_path`)."""
+        p = rel.n_params
+        moving = [rel.param_names.index(mv) for mv in MOVING[rel.name]]
+        q = Z.shape[1]
+        self.preprocessor_, self.components_ = pre, None if comps is None else np.asarray(comps).tolist()
+        self.features_ = pre.kept_columns
+        u = np.asarray(sol["u"], dtype=float)
+        self.penalty_ = float(sol["lam"])
         self.theta0_ = u[:p].copy()
-        self.coef_ = u[p:].reshape(len(moving), Z.shape[1]).copy()
-        self.loo_rmse_ = float(np.sqrt(score))
-        edf = float(np.sum(h))
-        self.dof_ = max(x.size - edf, 1.0)
+        self.coef_ = u[p:].reshape(len(moving), q).copy()
+        self.loo_rmse_ = float(np.sqrt(sol["score"]))
+        h, r = np.asarray(sol["h"]), np.asarray(sol["r"])
+        self.dof_ = max(n - float(np.sum(h)), 1.0)
         self.sigma_ = float(np.sqrt(np.sum(r ** 2) / self.dof_))
+        Ainv, JtJ = np.asarray(sol["Ainv"]), np.asarray(sol["JtJ"])
         # Sandwich covariance of the penalised estimate (kcal/mol²).
-        self.cov_ = (self.sigma_ ** 2 * Ainv @ (Jd.T @ Jd) @ Ainv).tolist()
+        self.cov_ = (self.sigma_ ** 2 * Ainv @ JtJ @ Ainv).tolist()
         # The effects a chemist reads come from the weakest penalty: the predicting coefficients
         # are shrunk toward zero by design, which would bias every reported effect low.
-        u_l, r_l, J_l, A_l, h_l = least
-        s2 = float(np.sum(r_l ** 2) / max(x.size - float(np.sum(h_l)), 1.0))
-        self.effect_coef_ = u_l[p:].reshape(len(moving), Z.shape[1]).tolist()
-        self.effect_cov_ = (s2 * A_l @ (J_l.T @ J_l) @ A_l)[p:, p:].tolist()
+        w = sol["weak"]
+        s2 = float(np.sum(np.asarray(w["r"]) ** 2) / max(n - float(np.sum(w["h"])), 1.0))
+        self.effect_coef_ = np.asarray(w["u"])[p:].reshape(len(moving), q).tolist()
+        Aw = np.asarray(w["Ainv"])
+        self.effect_cov_ = (s2 * Aw @ np.asarray(w["JtJ"]) @ Aw)[p:, p:].tolist()
         self.moving_ = list(MOVING[rel.name])
         self.relation_ = rel
-        self.bounds_ = (lo.tolist(), hi.tolist())
-        self.train_theta_ = self.member_params(X).tolist()      # for the report's curves per centre
+        self.bounds_ = (np.asarray(bounds[0]).tolist(), np.asarray(bounds[1]).tolist())
+        self.train_theta_ = self.member_params_z(Z).tolist()
         return self
 
     # -- prediction -----------------------------------------------------------------------
     def member_params(self, X) -> np.ndarray:
         """Each member's relation parameters Θ (n, p)."""
+        return self.member_params_z(self._z(X))
+
+    def member_params_z(self, Z) -> np.ndarray:
+        """Θ (n, p) of members given in the curve's own basis Z (n, q)."""
+        from .structure_solve import member_params
+
         rel = self.relation_
-        Z = self._z(X)
         moving = [rel.param_names.index(m) for m in self.moving_]
-        Theta = np.tile(np.asarray(self.theta0_), (Z.shape[0], 1))
-        Theta[:, moving] += Z @ np.asarray(self.coef_).T
-        lo, hi = (np.asarray(b, dtype=float) for b in self.bounds_)
-        return _clip_theta(Theta, lo, hi, moving)
+        u = np.concatenate([np.asarray(self.theta0_, dtype=float), np.asarray(self.coef_, dtype=float).ravel()])
+        lo, hi = (np.asarray(b, dtype=float)[None] for b in self.bounds_)
+        return member_params(rel, u[None], np.asarray(Z, dtype=float)[None], moving, lo, hi)[0][0]
 
-    def predict(self, X, energy) -> np.ndarray:
-        """Barrier (kcal/mol) of each member at its reaction energy (kcal/mol)."""
+    def _theta(self, X, Z):
+        return self.member_params_z(Z) if Z is not None else self.member_params(X)
+
+    def predict(self, X, energy, *, Z=None) -> np.ndarray:
+        """Barrier (kcal/mol) of each member at its reaction energy (kcal/mol); ``Z``: the
+        members already in the curve's basis (then X is ignored)."""
         x = np.asarray(energy, dtype=float)
-        return self.relation_.barrier(x[:, None], self.member_params(X))[:, 0]
+        return self.relation_.barrier(x[:, None], self._theta(X, Z))[:, 0]
 
-    def slope(self, X, energy) -> np.ndarray:
+    def slope(self, X, energy, *, Z=None) -> np.ndarray:
         """Each member's Leffler α at its reaction energy."""
         x = np.asarray(energy, dtype=float)
-        return self.relation_.slope(x[:, None], self.member_params(X))[:, 0]
+        return self.relation_.slope(x[:, None], self._theta(X, Z))[:, 0]
 
-    def predict_std(self, X, energy, energy_std=None) -> np.ndarray:
+    def predict_std(self, X, energy, energy_std=None, *, Z=None) -> np.ndarray:
         """Predictive standard deviation (kcal/mol): the residual scatter and, with
         ``energy_std``, the reaction energy's uncertainty through the local slope."""
         var = np.full(np.shape(energy), self.sigma_ ** 2)
         if energy_std is not None:
-            var = var + (self.slope(X, energy) * np.asarray(energy_std, dtype=float)) ** 2
+            var = var + (self.slope(X, energy, Z=Z) * np.asarray(energy_std, dtype=float)) ** 2
         return np.sqrt(var)
 
     def interval_quantile(self, level: float) -> float:
