@@ -18,6 +18,8 @@ Everything is deterministic (fixed seeds), so `barrierscope demo` and
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 import pandas as pd
 
@@ -71,29 +73,50 @@ def _groups():
     return keep
 
 
+@lru_cache(maxsize=None)
+def _labelled(text: str, number: int):
+    """A substituent with its attachment labelled ``number`` (parsed once per group)."""
+    from rdkit import Chem
+
+    sub = Chem.MolFromSmiles(text)
+    for a in sub.GetAtoms():
+        if a.GetAtomicNum() == 0:
+            a.SetAtomMapNum(number)
+    return sub
+
+
+@lru_cache(maxsize=1)
+def _core_mol():
+    from rdkit import Chem
+
+    return Chem.MolFromSmiles(CORE)
+
+
 def _molecule(r1: str, r2: str) -> str:
     from rdkit import Chem
 
-    mol = Chem.MolFromSmiles(CORE)
+    mol = _core_mol()
     for number, text in ((1, r1), (2, r2)):
-        sub = Chem.MolFromSmiles(text)
-        for a in sub.GetAtoms():
-            if a.GetAtomicNum() == 0:
-                a.SetAtomMapNum(number)
-        mol = Chem.molzip(mol, sub)
+        mol = Chem.molzip(mol, _labelled(text, number))      # molzip returns a new molecule
     return Chem.MolToSmiles(Chem.RemoveHs(mol))
 
 
-def _truth(pairs, rng):
+@lru_cache(maxsize=None)
+def _mr(smiles: str) -> float:
     from ..descriptors.topological import substituent_descriptors
-    from ..relations import get_relation
     from ..structures.substituent import substituent_key
+
+    return substituent_descriptors(substituent_key(smiles))["mr"]
+
+
+def _truth(pairs, rng):
+    from ..relations import get_relation
 
     m = TRUTH["energy_map"]
     c = TRUTH["curve"]
     energy, barrier = [], []
     for a, b in pairs:
-        mr = substituent_descriptors(substituent_key(b.smiles))["mr"]
+        mr = _mr(b.smiles)
         de = m["intercept"] + m["sigma_p_R1"] * a.sigma_p + m["sigma_m_R2"] * b.sigma_m + m["mr_R2"] * mr
         de += rng.normal(0.0, TRUTH["noise"]["reaction_energy"])
         dg = get_relation("asymptotic").barrier(np.array([de]), np.array([c["floor"], c["midpoint"], c["width"]]))[0]
