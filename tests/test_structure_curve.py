@@ -121,7 +121,7 @@ def test_the_stacked_solver_gives_each_set_s_own_fit():
     from scipy.optimize import least_squares
 
     from barrierscope.curves.structure import PENALTIES
-    from barrierscope.validation.routes import structure_fits
+    from barrierscope.validation.structure_routes import structure_fits
 
     X, x, y, _ = _invented(7, n=36)
     rng = np.random.default_rng(0)

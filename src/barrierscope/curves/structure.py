@@ -49,6 +49,12 @@ def is_centre_column(name: str) -> bool:
     return n.startswith("centre") or "_centre_" in n
 
 
+def structure_relation(relation) -> str:
+    """The relation a structure curve uses: the curve's own when it has a moving form."""
+    name = getattr(relation, "name", relation)
+    return name if name in MOVING else "asymptotic"
+
+
 def basis(A: np.ndarray, names: list[str], n: int, max_features: int = None):
     """(Preprocessor, components or None) fitted on the training members' descriptors A
     (n_train, d): imputed and standardised, reduced to the leading principal components when
@@ -129,12 +135,15 @@ class StructureCurve:
         moving = [rel.param_names.index(mv) for mv in MOVING[rel.name]]
         u0 = np.concatenate([np.clip(np.asarray(theta_start, dtype=float), lo, hi), np.zeros(len(moving) * Z.shape[1])])
         grid = np.array([sorted(self.penalties, reverse=True)], dtype=float)
-        sol = solve_path(rel, x, y, np.ones((1, x.size)), Z[None], u0[None], grid, lo[None], hi[None], moving)
-        return self._set(rel, pre, comps, {k: (v[0] if k != "weak" else {kk: vv[0] for kk, vv in v.items()})
-                                           for k, v in sol.items()}, (lo, hi), x.size, Z, X)
+        sol = solve_path(rel, x, y, np.ones((1, x.size)), Z=Z[None], u0=u0[None], grid=grid, lo=lo[None], hi=hi[None],
+                         moving=moving)
+        one = {k: (v[0] if k != "weak" else {kk: vv[0] for kk, vv in v.items()}) for k, v in sol.items()}
+        return self._set(rel, (pre, comps), one, bounds=(lo, hi), n=x.size, Z=Z)
 
-    def _set(self, rel, pre, comps, sol: dict, bounds, n: int, Z, X=None):
-        """The fitted state from one training set's solution (:func:`.structure_solve.solve_path`)."""
+    def _set(self, rel, basis_: tuple, sol: dict, *, bounds, n: int, Z):
+        """The fitted state from one training set's solution (:func:`.structure_solve.solve_path`);
+        ``basis_`` (preprocessor, components), ``Z`` the training members in that basis."""
+        pre, comps = basis_
         p = rel.n_params
         moving = [rel.param_names.index(mv) for mv in MOVING[rel.name]]
         q = Z.shape[1]
@@ -177,7 +186,7 @@ class StructureCurve:
         moving = [rel.param_names.index(m) for m in self.moving_]
         u = np.concatenate([np.asarray(self.theta0_, dtype=float), np.asarray(self.coef_, dtype=float).ravel()])
         lo, hi = (np.asarray(b, dtype=float)[None] for b in self.bounds_)
-        return member_params(rel, u[None], np.asarray(Z, dtype=float)[None], moving, lo, hi)[0][0]
+        return member_params(rel, u[None], np.asarray(Z, dtype=float)[None], moving=moving, lo=lo, hi=hi)[0][0]
 
     def _theta(self, X, Z):
         return self.member_params_z(Z) if Z is not None else self.member_params(X)

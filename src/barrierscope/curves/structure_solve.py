@@ -17,7 +17,7 @@ from __future__ import annotations
 import numpy as np
 
 
-def member_params(rel, u, Z, moving, lo, hi):
+def member_params(rel, u, Z, *, moving, lo, hi):
     """(Θ (m, n, p) clipped to the bounds, mask of clipped moving entries) from u (m, p + k)."""
     m, n, q = Z.shape
     p = rel.n_params
@@ -31,11 +31,11 @@ def member_params(rel, u, Z, moving, lo, hi):
     return Theta, clipped
 
 
-def residual_jacobian(rel, x, y, u, Z, moving, lo, hi):
+def residual_jacobian(rel, x, y, u, *, Z, moving, lo, hi):
     """Residuals f − G (m, n) and the Jacobian (m, n, p + k) of every training set's unknowns."""
     m, n, q = Z.shape
     p = rel.n_params
-    Theta, clipped = member_params(rel, u, Z, moving, lo, hi)
+    Theta, clipped = member_params(rel, u, Z, moving=moving, lo=lo, hi=hi)
     flat = Theta.reshape(m * n, p)
     e = np.tile(np.asarray(x, dtype=float), m)[:, None]
     r = rel.barrier(e, flat)[:, 0].reshape(m, n) - y[None, :]
@@ -48,7 +48,7 @@ def residual_jacobian(rel, x, y, u, Z, moving, lo, hi):
     return r, J
 
 
-def solve(rel, x, y, W, Z, u0, lam, lo, hi, moving, *, max_iter: int = 60, tol: float = 1e-8):
+def solve(rel, x, y, W, *, Z, u0, lam, lo, hi, moving, max_iter: int = 60, tol: float = 1e-8):
     """Minimise Σ w (f − G)² + λ‖B‖² for every row of ``W`` (m, n); ``Z`` (m, n, q) each set's
     standardised descriptors of every member; ``u0`` (m, p + k) starts; ``lam`` (m,); ``lo``,
     ``hi`` (m, p) bounds. Returns (u, residuals (m, n), weighted Jacobian (m, n, P),
@@ -63,7 +63,7 @@ def solve(rel, x, y, W, Z, u0, lam, lo, hi, moving, *, max_iter: int = 60, tol: 
     u[:, :p] = np.clip(u[:, :p], lo, hi)
 
     def evaluate(v):
-        r, J = residual_jacobian(rel, x, y, v, Z, moving, lo, hi)
+        r, J = residual_jacobian(rel, x, y, v, Z=Z, moving=moving, lo=lo, hi=hi)
         return r, J, np.sum((r * sw) ** 2, axis=1) + np.sum(pen * v * v, axis=1)
 
     r, J, cost = evaluate(u)
@@ -114,7 +114,7 @@ def loo_score(r, Jw, A, W):
     return score, h, Ainv
 
 
-def solve_path(rel, x, y, W, Z, u0, grid, lo, hi, moving):
+def solve_path(rel, x, y, W, *, Z, u0, grid, lo, hi, moving):
     """Each set over its penalties ``grid`` (m, L; strongest first, each solve started from the
     last): the penalty of lowest approximate leave-one-out error. Returns a dict with, per set,
     ``u``, ``lam``, ``score``, ``h``, ``Ainv``, ``JtJ`` and ``r`` at that penalty, and ``weak``:
@@ -126,7 +126,7 @@ def solve_path(rel, x, y, W, Z, u0, grid, lo, hi, moving):
     weak = None
     for j in range(L):
         lam = grid[:, j]
-        u, r, Jw, A, _ = solve(rel, x, y, W, Z, u, lam, lo, hi, moving)
+        u, r, Jw, A, _ = solve(rel, x, y, W, Z=Z, u0=u, lam=lam, lo=lo, hi=hi, moving=moving)
         score, h, Ainv = loo_score(r, Jw, A, W)
         JtJ = np.einsum("mni,mnj->mij", Jw, Jw)
         here = {"u": u.copy(), "lam": lam.copy(), "score": score, "h": h, "Ainv": Ainv, "JtJ": JtJ, "r": r.copy()}

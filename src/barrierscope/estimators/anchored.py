@@ -141,7 +141,7 @@ def end_splits(anchor: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
     return [(np.sort(order[q:]), order[:q]), (np.sort(order[:-q]), order[-q:])]
 
 
-def choose(Z: np.ndarray, y: np.ndarray, fixed: list[int], free_state: dict, refit_free) -> dict:
+def choose(Z: np.ndarray, y: np.ndarray, fixed: list[int], *, free_state: dict, refit_free) -> dict:
     """The anchored state with the candidate of lowest inner score in ``choice``; ``free_state``
     the free learner fitted on every member, ``refit_free(train_idx)`` that learner refitted
     on a subset (for the end splits). The result holds every candidate's state and scores."""

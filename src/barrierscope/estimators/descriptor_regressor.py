@@ -57,7 +57,7 @@ class DescriptorRegressor(RegressorProtocol):
 
     _allows_nan = True   # missing descriptors are imputed inside fit
 
-    def __init__(self, learner: str = "ridge", random_state: int = 0, effort: str = "full", anchor=None,
+    def __init__(self, learner: str = "ridge", random_state: int = 0, effort: str = "full", *, anchor=None,
                  fixed=()):
         self.learner = learner
         self.random_state = random_state

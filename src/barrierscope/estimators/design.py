@@ -120,16 +120,7 @@ def pick(curve, cands: Candidates, k: int, goal: str = "parameters", *, energy_s
             first_total = total if first_total is None else first_total
             gain = gain / first_total if first_total > 0 else gain
         masked = np.where(available, gain, -np.inf)
-        best = int(np.argmax(masked))
-        note = ""
-        if domain == "prefer" and not inside[best] and (available & inside).any():
-            best_in = int(np.argmax(np.where(available & inside, gain, -np.inf)))
-            ratio = gain[best] / gain[best_in] if gain[best_in] > 0 else np.inf
-            if ratio >= CLEARLY_MORE:
-                note = f"out of domain: {ratio:.3g}× the best in-domain gain"
-            else:
-                note = f"preferred in domain: an out-of-domain candidate would gain {ratio:.3g}× as much"
-                best = best_in
+        best, note = _domain_rule(gain, available, inside, int(np.argmax(masked)), domain)
         top = float(np.max(masked))
         picks.append({"index": best, "score": float(gain[best]), "best": bool(gain[best] >= top - 1e-12),
                       "domain": note})
@@ -143,6 +134,18 @@ def pick(curve, cands: Candidates, k: int, goal: str = "parameters", *, energy_s
             close &= np.linalg.norm(cands.Z - cands.Z[best], axis=1) < near
         available &= ~close
     return picks
+
+
+def _domain_rule(gain, available, inside, best: int, domain: str) -> tuple[int, str]:
+    """``--domain prefer``: the best in-domain candidate unless an out-of-domain one gains
+    :data:`CLEARLY_MORE` times as much; (the pick, what the rule did in words or "")."""
+    if domain != "prefer" or inside[best] or not (available & inside).any():
+        return best, ""
+    best_in = int(np.argmax(np.where(available & inside, gain, -np.inf)))
+    ratio = gain[best] / gain[best_in] if gain[best_in] > 0 else np.inf
+    if ratio >= CLEARLY_MORE:
+        return best, f"out of domain: {ratio:.3g}× the best in-domain gain"
+    return best_in, f"preferred in domain: an out-of-domain candidate would gain {ratio:.3g}× as much"
 
 
 def energy_state(model) -> dict | None:

@@ -89,7 +89,7 @@ class HybridRegressor(EnergyRouteMixin, RegressorProtocol):
     _poor_score = True   # one column of X (the energy) carries the curve's part
 
     def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0,
-                 energy_column=None, anchor=None, fixed=()):
+                 energy_column=None, *, anchor=None, fixed=()):
         self.learner = learner
         self.relation = relation
         self.random_state = random_state

@@ -53,7 +53,7 @@ def conformal_bounds(mu, resid, level: float) -> tuple[np.ndarray, np.ndarray]:
     return low, high
 
 
-def route_estimator(route: str, learner: str, relation: str, random_state: int, anchor=None, fixed=()):
+def route_estimator(route: str, learner: str, relation: str, random_state: int, *, anchor=None, fixed=()):
     from .descriptor_regressor import DescriptorRegressor
     from .hybrid import HybridRegressor
     from .two_stage import TwoStageRegressor
@@ -118,7 +118,8 @@ class JackknifePlus:
         self.models_, self.resid_, self.curve_resid_ = [], np.empty(n), np.full(n, np.nan)
         for held in self.folds_:
             keep = np.setdiff1d(np.arange(n), held)
-            est = route_estimator(self.route, self.learner, self.relation, self.random_state, self.anchor, self.fixed)
+            est = route_estimator(self.route, self.learner, self.relation, self.random_state, anchor=self.anchor,
+                                  fixed=self.fixed)
             if self.route == "direct":
                 est.fit(rows(X, keep), y[keep])
             else:

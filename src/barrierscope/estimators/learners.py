@@ -335,7 +335,7 @@ def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, *,
     if warm is not None and warm.get("kind") == "anchored":
         warm = warm["free"]
     if anchor:
-        return _anchored_fit(name, X, y, random_state, warm, effort, list(anchor))
+        return _anchored_fit(name, X, y, random_state, warm=warm, effort=effort, anchor=list(anchor))
     if name == "auto":
         return _auto_fit(X, y, random_state, warm)
     if name == "ridge":
@@ -349,7 +349,7 @@ def fit_state(name: str, X: np.ndarray, y: np.ndarray, random_state: int = 0, *,
     return _forest_fit(X, y, random_state, REFIT_FOREST_TREES if effort == "refit" else FOREST_TREES)
 
 
-def _anchored_fit(name, X, y, random_state, warm, effort, anchor) -> dict:
+def _anchored_fit(name, X, y, random_state, *, warm, effort, anchor) -> dict:
     """The free learner, then the anchored candidates against it (:func:`.anchored.choose`)."""
     from . import anchored
 
@@ -363,7 +363,7 @@ def _anchored_fit(name, X, y, random_state, warm, effort, anchor) -> dict:
         return fit_state(kind, X[train], y[train], random_state, warm=again, effort="refit")
 
     try:
-        return anchored.choose(X, y, anchor, free, refit_free)
+        return anchored.choose(X, y, anchor, free_state=free, refit_free=refit_free)
     except (ValueError, np.linalg.LinAlgError) as exc:
         return {**free, "anchor_note": f"not anchored: {exc}"}
 

@@ -18,7 +18,7 @@ class StructureRouteRegressor:
     anchor, fixed). Attributes: ``two_stage_`` (its energy stage and plain curve; the structure
     curve starts from that curve) and ``structure_`` (a fitted StructureCurve)."""
 
-    def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0, anchor=None,
+    def __init__(self, learner: str = "ridge", relation: str = "asymptotic", random_state: int = 0, *, anchor=None,
                  fixed=()):
         self.learner = learner
         self.relation = relation
@@ -33,7 +33,7 @@ class StructureRouteRegressor:
     def fit(self, X, y, energy):
         """X (n, p) descriptors, y (n,) barriers and ``energy`` (n,) reaction energies, kcal/mol."""
         from ..curves.structure import StructureCurve
-        from ..validation.routes import structure_relation
+        from ..curves.structure import structure_relation
 
         if X is None or np.shape(X)[1] == 0:
             raise ValueError("the structure curve route needs descriptors")

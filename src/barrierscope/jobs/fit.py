@@ -151,7 +151,7 @@ def anchor_record(anchor: Anchor, two_stage, direct) -> AnchorRecord | None:
                         per_family_intercepts=bool(anchor.fixed))
 
 
-def fit_routes(X, energy, barrier, opts: FitOptions, anchor: Anchor = Anchor()):
+def fit_routes(X, energy, barrier, opts: FitOptions, *, anchor: Anchor = Anchor()):
     """(two_stage, hybrid, direct, domain, structure) fitted on all members; ``structure`` the
     structure-dependent curve (None without descriptors, or when it cannot be fitted); the
     energy stage and the black box anchored alike on ``anchor``."""
@@ -173,7 +173,7 @@ def fit_routes(X, energy, barrier, opts: FitOptions, anchor: Anchor = Anchor()):
 def _structure_curve(X, energy, barrier, curve):
     """The structure-dependent curve on every member, started from the plain curve."""
     from ..curves.structure import StructureCurve
-    from ..validation.routes import structure_relation
+    from ..curves.structure import structure_relation
 
     if X is None or X.shape[1] == 0:
         return None
@@ -254,7 +254,7 @@ def _fit_family(df, source: str, spec, engine, *, opts: FitOptions):
     energy, barrier = pairs.energy, pairs.barrier
     anchor = choose_anchor(X if has_x else None, opts, pairs.families)
     try:
-        two_stage, hybrid, direct, domain, structure = fit_routes(X, energy, barrier, opts, anchor)
+        two_stage, hybrid, direct, domain, structure = fit_routes(X, energy, barrier, opts, anchor=anchor)
     except FitError as exc:      # the data cannot support a curve (no span, say): the chemist's to know
         raise FitRefused(str(exc)) from None
     curve = two_stage.curve_

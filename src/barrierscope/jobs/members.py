@@ -30,7 +30,7 @@ def _extra_matrix(df: pd.DataFrame, columns: list[str], ids: pd.Series, source: 
     return pd.DataFrame(data, index=df.index), problems
 
 
-def computed_energy_column(df: pd.DataFrame, column: str, ids: pd.Series, source: str, unit: str):
+def computed_energy_column(df: pd.DataFrame, column: str, ids: pd.Series, *, source: str, unit: str):
     """The chemist's computed reaction energies (``column``, in ``unit``) in kcal/mol, as a
     one-column DataFrame, and the rows without a usable one (every member needs it: it anchors
     the energy stage)."""
@@ -71,7 +71,7 @@ def prepare_members(df: pd.DataFrame, source: str, spec: InputSpec, engine, *, o
         X = extra if X is None else pd.concat([X, extra], axis=1)
     computed = getattr(opts, "computed_energy", None)
     if computed and computed.lower() != "none":
-        col, bad = computed_energy_column(df, computed, ids, source, unit)
+        col, bad = computed_energy_column(df, computed, ids, source=source, unit=unit)
         problems += bad
         X = col if X is None else pd.concat([X.drop(columns=[computed], errors="ignore"), col], axis=1)
     labels = None

@@ -154,10 +154,10 @@ def kinetics_of(model, opts: ScreenOptions) -> dict:
             "k_diff": k_diff}
 
 
-def _rates(cols: dict, idx, p: dict, opts: ScreenOptions, kin: dict | None = None) -> None:
+def _rates(cols: dict, idx, p: dict, opts: ScreenOptions, *, kin: dict | None = None) -> None:
     t, kappa = opts.temperature, opts.transmission
     if kin is not None and kin["molecularity"] == 2:
-        _second_order(cols, idx, p, opts, kin)
+        _second_order(cols, idx, p, opts=opts, kin=kin)
         return
     cols["rate_constant_per_s"][idx] = eyring_rate(p["barrier"], t, kappa)
     cols["rate_low90_per_s"][idx] = eyring_rate(p["high"], t, kappa)
@@ -167,7 +167,7 @@ def _rates(cols: dict, idx, p: dict, opts: ScreenOptions, kin: dict | None = Non
     cols["half_life_high90_s"][idx] = half_life(p["high"], t, kappa)
 
 
-def _second_order(cols: dict, idx, p: dict, opts: ScreenOptions, kin: dict) -> None:
+def _second_order(cols: dict, idx, p: dict, *, opts: ScreenOptions, kin: dict) -> None:
     """k (M⁻¹ s⁻¹) from the 1 M barrier, combined with the diffusion limit; with the partner's
     concentration, the pseudo-first-order k[B] (s⁻¹) and half-life ln 2 / (k[B])."""
     from ..bimolecular import DIFFUSION_CEILING, barrier_1M, observed_rate, second_order_rate
@@ -262,7 +262,7 @@ def predict_chunk(model, chunk: pd.DataFrame, source: str, opts: ScreenOptions, 
                                                    else floor_of(model.curve))
         cols["in_domain"][idx] = ~(p["ad_descriptor_out"] | p["ad_energy_out"])
         if model.energy_kind == "free-energy":
-            _rates(cols, idx, p, opts, kinetics_of(model, opts))
+            _rates(cols, idx, p, opts, kin=kinetics_of(model, opts))
         for flag, text in ((p["relation_outside"], f"outside the {model.curve.relation_.label} relation's range of "
                                                     f"validity"),
                            (p["off_manifold"], GUARD_NOTES["off_manifold"]),

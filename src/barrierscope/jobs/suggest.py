@@ -38,7 +38,7 @@ def _already_computed(model, frame, keys) -> np.ndarray:
     return seen
 
 
-def _facts(model, cands: Candidates, c: int, goal: str, chosen: dict | None = None) -> PickFacts:
+def _facts(model, cands: Candidates, c: int, goal: str, *, chosen: dict | None = None) -> PickFacts:
     """What a pick's reason rests on (kcal/mol)."""
     train_e = np.asarray(model.training["energy"], dtype=float)
     spacing = np.diff(np.sort(train_e))
@@ -101,7 +101,7 @@ def suggest_file(model_path, candidates_path, k: int, goal: str = "parameters", 
                 energy_sd=float(cands.energy_sd[p["index"]]), energy_given=bool(cands.given[p["index"]]),
                 in_domain=bool(cands.in_domain[p["index"]]), ad_distance=float(cands.ad_distance[p["index"]]),
                 barrier=float(sub.loc[p["index"], "barrier"]), low=float(sub.loc[p["index"], "low"]),
-                high=float(sub.loc[p["index"], "high"]), facts=_facts(model, cands, p["index"], goal, p),
+                high=float(sub.loc[p["index"], "high"]), facts=_facts(model, cands, p["index"], goal, chosen=p),
                 energy_outside_span=bool(sub.loc[p["index"], "ad_energy_out"]),
                 energy_clipped=bool(sub.loc[p["index"], "energy_clipped"]),
                 unusual_descriptors=bool(sub.loc[p["index"], "off_manifold"]),
