@@ -94,3 +94,22 @@ def test_each_policy_makes_one_member_of_each_repeated_structure(repeated, polic
         assert train[fam["id"].iloc[k]] == pytest.approx(merge_repeats(e, b, policy)[1], abs=1e-9)
         assert stands[fam["id"].iloc[k]] == 2
     assert stands[fam["id"].iloc[10]] == 1
+
+
+def test_curve_takes_the_same_policies(tmp_path):
+    """`curve` keys members by id: a repeated id with other numbers is refused, or merged."""
+    rng = np.random.default_rng(3)
+    e = np.linspace(-20.0, 10.0, 14)
+    b = 12.0 + 0.5 * (e + 20.0) + rng.normal(0, 0.3, 14)
+    df = pd.DataFrame({"id": [f"r{i}" for i in range(14)] + ["r3"], "dE": [*e, e[3] + 0.2], "dG": [*b, b[3] - 1.5]})
+    path = tmp_path / "pairs.csv"
+    df.to_csv(path, index=False)
+    args = ["curve", str(path), "--energy", "dE", "--barrier", "dG", "--json"]
+    refused = runner.invoke(app, args)
+    assert refused.exit_code == 2 and "--duplicates" in refused.stderr
+    r = runner.invoke(app, args + ["--duplicates", "lowest"])
+    assert r.exit_code == 0, r.output
+    assert json.loads(r.stdout)["n"] == 14
+    assert any("from 2 rows" in w for w in json.loads(r.stdout)["warnings"])
+    bad = runner.invoke(app, args + ["--duplicates", "median"])
+    assert bad.exit_code == 2 and "--duplicates" in bad.stderr

@@ -199,16 +199,27 @@ def curve(data: Path = typer.Argument(..., help="Table with one row per member (
           n_bootstrap: int = typer.Option(1000, "--n-bootstrap", help="Resamples for --intervals bootstrap."),
           skip_bad_rows: bool = typer.Option(False, "--skip-bad-rows", help="Leave out (and list) bad rows."),
           family: Optional[str] = FAMILY, share: Optional[str] = SHARE,
+          duplicates: str = typer.Option("refuse", "--duplicates",
+                                         help="Rows that repeat a member (the same id) with other numbers: refuse, "
+                                              "lowest, mean or boltzmann (at --temperature)."),
+          temperature: str = typer.Option("298.15K", "--temperature",
+                                          help="Temperature of --duplicates boltzmann: 298.15K, 25C."),
           figure: Optional[Path] = typer.Option(None, "--figure", help="With --family: write every family's "
                                                                        "curve to this PNG."),
           as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of the table.")):
     """Fit every barrier–reaction-energy relation to a family and compare them; with --family,
     fit several families jointly with shared parameters."""
+    from .jobs.options import temperature as temperature_option
+
+    kelvin, note = temperature_option(temperature)
+    warn([note] if note else [])
+    repeats = dict(duplicates=duplicates.strip().lower(), temperature=kelvin)
     if family is not None:
         from .jobs.curve import families_file
         from .views.families_text import families_json, format_families
 
-        record = families_file(data, energy, barrier, family, share=share, units=units, kind=kind, id_column=id_column, skip_bad_rows=skip_bad_rows, figure=figure)
+        record = families_file(data, energy, barrier, family, share=share, units=units, kind=kind, id_column=id_column,
+                               skip_bad_rows=skip_bad_rows, figure=figure, **repeats)
         warn(record.warnings)
         shown = families_json(record, record.units)
         print_json(shown) if as_json else typer.echo(format_families(shown))
@@ -216,7 +227,8 @@ def curve(data: Path = typer.Argument(..., help="Table with one row per member (
     from .jobs.curve import curve_file
     from .views.curve_text import curve_json, format_curve
 
-    record = curve_file(data, energy, barrier, units, kind=kind, id_column=id_column, loss=loss, intervals=intervals, n_bootstrap=n_bootstrap, skip_bad_rows=skip_bad_rows)
+    record = curve_file(data, energy, barrier, units, kind=kind, id_column=id_column, loss=loss, intervals=intervals,
+                        n_bootstrap=n_bootstrap, skip_bad_rows=skip_bad_rows, **repeats)
     warn(record.warnings)
     shown = curve_json(record, record.units)
     if as_json:

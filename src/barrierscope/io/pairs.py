@@ -192,7 +192,8 @@ def resolve_duplicates(keys: pd.Series, values: np.ndarray, ids: pd.Series, rows
 def collision_advice(by_structure: bool, conflicts: list[RowProblem]) -> str:
     """What to do about colliding rows (once, after the list)."""
     if not by_structure:
-        return "give each member its own id, or drop the wrong rows"
+        return ("give each member its own id; where the rows repeat one member's calculation (conformers), "
+                "--duplicates lowest, mean or boltzmann makes one member of them; or drop the wrong rows")
     options = ("--duplicates lowest (the lowest barrier), mean, or boltzmann (the Curtin–Hammett effective "
                "barrier at --temperature) makes one member of each repeated structure")
     if any("unassigned" in c.message for c in conflicts):

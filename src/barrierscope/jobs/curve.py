@@ -85,8 +85,11 @@ def refused():
 
 def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", *, kind: str = "free-energy",
                id_column: str | None = None, loss: str = "squared", intervals: str = "profile",
-               n_bootstrap: int = 1000, skip_bad_rows: bool = False) -> CurveComparison:
-    """The comparison record of a table's pairs, with the warnings and skipped rows (kcal/mol)."""
+               n_bootstrap: int = 1000, skip_bad_rows: bool = False, duplicates: str = "refuse",
+               temperature: float = 298.15) -> CurveComparison:
+    """The comparison record of a table's pairs, with the warnings and skipped rows (kcal/mol);
+    ``duplicates``/``temperature``: rows that repeat a member (the same id) with other numbers
+    (:data:`..io.pairs.DUPLICATE_POLICIES`)."""
     from ..io.pairs import load_pairs, require_members
     from ..io.tables import read_table
 
@@ -95,7 +98,11 @@ def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", *, kind
     with option("--loss"):
         loss_name(loss)
     at_least("--n-bootstrap", n_bootstrap, 20)
-    pairs = load_pairs(read_table(data), str(data), energy, barrier, unit=unit, id_col=id_column, skip_bad_rows=skip_bad_rows)
+    from ..io.pairs import DUPLICATE_POLICIES
+
+    one_of("--duplicates", duplicates, DUPLICATE_POLICIES)
+    pairs = load_pairs(read_table(data), str(data), energy, barrier, unit=unit, id_col=id_column,
+                       skip_bad_rows=skip_bad_rows, duplicates=duplicates, temperature=temperature)
     require_members(pairs.n, 4, "comparing the relations with leave-one-out")
     with refused():
         return compare_curves(pairs.energy, pairs.barrier, energy_kind=energy_kind, loss=loss, intervals=intervals,
@@ -106,7 +113,7 @@ def curve_file(data, energy: str, barrier: str, units: str = "kcal/mol", *, kind
 
 def families_file(data, energy: str, barrier: str, family: str, *, share: str | None = None, units: str = "kcal/mol",
                   kind: str = "free-energy", id_column: str | None = None, skip_bad_rows: bool = False,
-                  figure=None) -> JointRecord:
+                  figure=None, duplicates: str = "refuse", temperature: float = 298.15) -> JointRecord:
     """The joint record of every family in a table (kcal/mol); each family's rows are checked
     as one family (the same id may recur in different families: the same substrate with
     another reagent)."""
@@ -114,7 +121,10 @@ def families_file(data, energy: str, barrier: str, family: str, *, share: str | 
     from ..io.tables import read_table
     from .families import family_labels, joint_record, parse_share
 
+    from ..io.pairs import DUPLICATE_POLICIES
+
     unit, energy_kind = curve_options(units, kind)
+    one_of("--duplicates", duplicates, DUPLICATE_POLICIES)
     df = read_table(data)
     labels, problems = family_labels(df, family, str(data))
     if problems and not skip_bad_rows:
@@ -124,7 +134,7 @@ def families_file(data, energy: str, barrier: str, family: str, *, share: str | 
     for name in sorted(set(labels) - {""}):
         sub = df[(labels == name).to_numpy()]
         pairs = load_pairs(sub, f"{data} (family {name})", energy, barrier, unit=unit, id_col=id_column,
-                           skip_bad_rows=skip_bad_rows)
+                           skip_bad_rows=skip_bad_rows, duplicates=duplicates, temperature=temperature)
         x += pairs.energy.tolist()
         y += pairs.barrier.tolist()
         fam_labels += [name] * pairs.n
@@ -139,5 +149,6 @@ def families_file(data, energy: str, barrier: str, family: str, *, share: str | 
         from ..views.figures import families_png
 
         write_bytes_atomic(figure, families_png(record.families, record.relation, record.shared, np.array(x),
-                                                barrier=np.array(y), fam=fam, names=names, unit=unit))
+                                                barrier=np.array(y), fam=fam, names=names, unit=unit,
+                                                kind=energy_kind))
     return record

@@ -267,7 +267,8 @@ def hammett_png(hammett, barrier_kcal, unit: str) -> bytes:
     return png(fig)
 
 
-def families_png(families: dict, relation: str, shared, energy, *, barrier, fam, names, unit: str) -> bytes:
+def families_png(families: dict, relation: str, shared, energy, *, barrier, fam, names, unit: str,
+                 kind: str = "free-energy") -> bytes:
     """Every family's members and its jointly fitted curve, one colour and marker each;
     ``families`` {name: FamilyEntry} (kcal/mol) of ``relation``, with ``shared`` parameters."""
     from ..relations import get_relation
@@ -286,8 +287,9 @@ def families_png(families: dict, relation: str, shared, energy, *, barrier, fam,
         ax.plot(to_unit(x[sel], unit), to_unit(y[sel], unit), markers[k % len(markers)], color=colour, ms=4,
                 label=f"{name} (n = {f.n})")
         ax.plot(to_unit(grid, unit), to_unit(rel.barrier(grid, theta), unit), color=colour, ls=style, lw=1.4)
-    ax.set_xlabel(f"reaction energy ({unit})")
-    ax.set_ylabel(f"barrier ({unit})")
+    xlabel, ylabel = energy_axis_labels(kind, unit)
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel(ylabel)
     ax.set_title("shared: " + (", ".join(shared) or "none"), fontsize=9)
     ax.legend(fontsize=7, ncol=2)
     return png(fig)

@@ -131,7 +131,7 @@ def families_section(record, model, unit: str, figures_dir=None) -> str:
     names = record.family_names
     codes = np.array([names.index(f) for f in model.training["families"]])
     png = families_png(record.families, model.joint["fit"].relation.name, record.shared, model.training["energy"],
-                       barrier=model.training["barrier"], fam=codes, names=names, unit=unit)
+                       barrier=model.training["barrier"], fam=codes, names=names, unit=unit, kind=model.energy_kind)
     shared = ", ".join(record.shared) or "nothing"
     return (f"<h2>Families</h2><p>The families in column <code>{esc(record.family_column)}</code>, fitted "
             f"jointly with {esc(shared)} shared (95 % intervals: profile-t for parameters, delta method for the "
