@@ -55,6 +55,12 @@ def structure_relation(relation) -> str:
     return name if name in MOVING else "asymptotic"
 
 
+def fit_beside(curve, X, energy, barrier) -> "StructureCurve":
+    """The structure curve of a fitted plain curve (a CurveRegressor): its relation (or the
+    asymptotic curve when it has no moving form), started from its parameters."""
+    return StructureCurve(structure_relation(curve.relation_)).fit(X, energy, barrier, theta_start=curve.params_)
+
+
 def basis(A: np.ndarray, names: list[str], n: int, max_features: int = None):
     """(Preprocessor, components or None) fitted on the training members' descriptors A
     (n_train, d): imputed and standardised, reduced to the leading principal components when

@@ -103,28 +103,27 @@ class DescriptorRegressor(RegressorProtocol):
         fixed = [keep.index(cols.index(c)) for c in self.fixed if c in cols and cols.index(c) in keep]
         return [keep.index(j), *fixed]
 
-    def _anchor_missing(self, A) -> np.ndarray | None:
-        """Rows without the anchor's value (they are predicted by the free learner)."""
+    def _through_anchor(self, A) -> np.ndarray | None:
+        """Rows (raw descriptors A) predicted through the anchor: an anchored choice and the row's
+        computed energy given; None when the stage does not predict through an anchor."""
         if self.state_.get("kind") != "anchored" or self.state_.get("choice") == "free":
             return None
-        j = self.preprocessor_.keep[self.state_["fixed"][0]]
-        bad = ~np.isfinite(A[:, j])
-        return bad if bad.any() else None
+        return np.isfinite(A[:, self.preprocessor_.keep[self.state_["fixed"][0]]])
 
     def anchored_rows(self, X) -> np.ndarray:
         """Rows predicted through the anchor (an anchored choice, and the row's computed energy given)."""
         check_fitted(self, "state_")
         A = self._validate_X(X, reset=False)
-        if self.state_.get("kind") != "anchored" or self.state_.get("choice") == "free":
-            return np.zeros(A.shape[0], dtype=bool)
-        return np.isfinite(A[:, self.preprocessor_.keep[self.state_["fixed"][0]]])
+        through = self._through_anchor(A)
+        return np.zeros(A.shape[0], dtype=bool) if through is None else through
 
     def _predict(self, X, with_excess: bool):
         A = self._validate_X(X, reset=False)
         Z = self.preprocessor_.transform(A)
         out = predict_state(self.state_, Z, with_excess=with_excess)
-        bad = self._anchor_missing(A)
-        if bad is not None:
+        through = self._through_anchor(A)
+        if through is not None and not through.all():      # rows without a computed energy: the free learner
+            bad = ~through
             free = predict_state(self.state_["free"], Z[bad], with_excess=with_excess)
             for full, part in zip(out, free):
                 full[bad] = part

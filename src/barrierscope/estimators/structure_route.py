@@ -32,17 +32,14 @@ class StructureRouteRegressor:
 
     def fit(self, X, y, energy):
         """X (n, p) descriptors, y (n,) barriers and ``energy`` (n,) reaction energies, kcal/mol."""
-        from ..curves.structure import StructureCurve
-        from ..curves.structure import structure_relation
+        from ..curves.structure import fit_beside
 
         if X is None or np.shape(X)[1] == 0:
             raise ValueError("the structure curve route needs descriptors")
         energy = np.asarray(energy, dtype=float)
         self.two_stage_ = TwoStageRegressor(self.learner, self.relation, random_state=self.random_state,
                                             anchor=self.anchor, fixed=self.fixed).fit(X, y, energy)
-        curve = self.two_stage_.curve_
-        self.structure_ = StructureCurve(structure_relation(curve.relation_)).fit(X, energy, y,
-                                                                                  theta_start=curve.params_)
+        self.structure_ = fit_beside(self.two_stage_.curve_, X, energy, y)
         return self
 
     def predict(self, X, energy=None, return_std: bool = False):

@@ -25,11 +25,15 @@ from .ridge import GUARD_FLAG
 ENERGY_MARGIN = 0.25
 
 
-def clip_energy(energy, lo: float, hi: float) -> tuple[np.ndarray, np.ndarray]:
-    """(energies clipped to [lo − m·span, hi + m·span], mask of those clipped), kcal/mol."""
+def clip_energy(energy, lo: float, hi: float, *, exempt=None) -> tuple[np.ndarray, np.ndarray]:
+    """(energies clipped to [lo − m·span, hi + m·span], mask of those clipped), kcal/mol.
+    ``exempt``: rows left as they are (predicted through an anchored computed energy, which
+    is meant to carry the stage beyond the members)."""
     e = np.asarray(energy, dtype=float)
     pad = ENERGY_MARGIN * (hi - lo)
     out = np.clip(e, lo - pad, hi + pad)
+    if exempt is not None:
+        out = np.where(exempt, e, out)
     return out, out != e
 
 
@@ -173,8 +177,8 @@ class TwoStageRegressor(EnergyRouteMixin, RegressorProtocol):
             detail = self.energy_.predict_detail(D)
             Z = detail["Z"]
             e[need], e_std[need] = detail["mean"][need], detail["std"][need]
-            free = need & ~self.energy_.anchored_rows(D)
-            e[free], clipped[free] = clip_energy(e[free], *self.curve_.energy_range_)
+            e[need], clipped[need] = clip_energy(e[need], *self.curve_.energy_range_,
+                                                 exempt=self.energy_.anchored_rows(D)[need])
             off[need] = detail["excess"][need] > GUARD_FLAG
         elif need.any():
             raise ValueError("this model has no energy stage: every member needs a reaction energy")

@@ -133,6 +133,12 @@ def parse_numeric(values: pd.Series, column: str) -> tuple[np.ndarray, list[tupl
     return out, problems
 
 
+def is_missing_cell(message: str) -> bool:
+    """Is a :func:`parse_numeric` problem a missing value (empty cell or NaN) rather than text
+    that is not a number?"""
+    return "empty cell" in message or "NaN" in message
+
+
 #: A number written with a decimal comma ("-12,5", "3,14e2").
 _DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+([eE][+-]?\d+)?$")
 

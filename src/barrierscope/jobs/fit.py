@@ -172,13 +172,12 @@ def fit_routes(X, energy, barrier, opts: FitOptions, *, anchor: Anchor = Anchor(
 
 def _structure_curve(X, energy, barrier, curve):
     """The structure-dependent curve on every member, started from the plain curve."""
-    from ..curves.structure import StructureCurve
-    from ..curves.structure import structure_relation
+    from ..curves.structure import fit_beside
 
     if X is None or X.shape[1] == 0:
         return None
     try:
-        return StructureCurve(structure_relation(curve.relation_)).fit(X, energy, barrier, theta_start=curve.params_)
+        return fit_beside(curve, X, energy, barrier)
     except (ValueError, np.linalg.LinAlgError):
         return None
 

@@ -11,7 +11,7 @@ import numpy as np
 import pandas as pd
 
 from ..io.pairs import RowProblem, load_pairs
-from ..io.tables import ROW, parse_numeric, require_columns, row_ids
+from ..io.tables import ROW, is_missing_cell, parse_numeric, require_columns, row_ids
 from ..structures.spec import InputSpec
 from ..units import normalize_unit
 
@@ -23,7 +23,7 @@ def _extra_matrix(df: pd.DataFrame, columns: list[str], ids: pd.Series, source: 
     for col in columns:
         values, bad = parse_numeric(df[col].reset_index(drop=True), col)
         for pos, msg in bad:
-            if "empty cell" in msg or "NaN" in msg:
+            if is_missing_cell(msg):
                 continue  # missing user descriptors are imputed (and counted), like missing RDKit ones
             problems.append(RowProblem(int(rows[pos]), ids.iloc[pos], msg))
         data[col] = values

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from ..io.tables import READ_ERROR, ROW, parse_numeric, row_ids
+from ..io.tables import READ_ERROR, ROW, is_missing_cell, parse_numeric, row_ids
 from ..kinetics import eyring_rate, half_life
 from ..units import factor_to_kcal
 
@@ -81,7 +81,7 @@ def _given_energies(chunk, model, opts, status, *, kind) -> np.ndarray:
         return np.full(len(chunk), np.nan)
     values, problems = parse_numeric(chunk[opts.energy_column], opts.energy_column)
     for pos, msg in problems:
-        missing = "empty cell" in msg or "NaN" in msg
+        missing = is_missing_cell(msg)
         # With structures a missing energy is predicted; text that is not a number is an error.
         if status[pos] == OK and not (missing and model.has_structures):
             status[pos], kind[pos] = msg, "energy"
@@ -108,7 +108,7 @@ def _descriptors(chunk, model, opts, engine, *, status, kind, labels=None):
             continue
         values, problems = parse_numeric(chunk[c].reset_index(drop=True), c)
         for pos, msg in problems:
-            if "empty cell" in msg or "NaN" in msg:
+            if is_missing_cell(msg):
                 if c == model.computed_energy:
                     notes[pos] = "; ".join(v for v in (notes[pos], missing_note) if v)
                 continue

@@ -387,10 +387,7 @@ def _descriptor_routes(out, X, x, y, *, splits, curves, learner, random_state, l
     for k, s in enumerate(splits):
         f = energy_fits[k]
         span = (x[s.train].min(), x[s.train].max())
-        e_hat, clipped = clip_energy(f["pred"], *span)
-        through = f.get("anchored")
-        if through is not None and through.any():     # the anchor follows the computed energy beyond the span
-            e_hat, clipped = np.where(through, f["pred"], e_hat), clipped & ~through
+        e_hat, clipped = clip_energy(f["pred"], *span, exempt=f.get("anchored"))
         if "free_pred" in f:
             out.energy_free[s.test] = clip_energy(f["free_pred"], *span)[0]
         e_split.append(e_hat)
